@@ -1,0 +1,209 @@
+// The typed shape of the database, table by table (snake_case as in SQL). Columns with defaults are
+// Generated; nullable columns are `| null`, never optional. numeric columns come back as strings
+// (for decimal.js); int8 as numbers and date as 'YYYY-MM-DD' (see db/connection.ts).
+import type { ColumnType, Generated, Insertable, Selectable, Updateable } from 'kysely'
+
+type Timestamp = ColumnType<Date, Date | string, Date | string>
+/** a timestamp the database fills in (DEFAULT now()) */
+type DefaultTimestamp = ColumnType<Date, Date | string | undefined, Date | string>
+type Numeric = ColumnType<string, string | number, string | number>
+type Json<T = Record<string, unknown>> = ColumnType<T, T | string, T | string>
+
+export type Role = 'circulator' | 'scrub' | 'surgeon' | 'coordinator' | 'admin'
+
+export interface FacilitiesTable {
+  id: Generated<number>
+  code: string
+  name: string
+  time_zone: Generated<string>
+  created_at: DefaultTimestamp
+}
+
+export interface TheatresTable {
+  id: Generated<number>
+  facility_id: number
+  code: string
+  name: string
+  active: Generated<boolean>
+}
+
+export interface UsersTable {
+  id: Generated<number>
+  email: string
+  name: string
+  role: Role
+  password_hash: string
+  active: Generated<boolean>
+  facility_id: number | null
+  created_at: DefaultTimestamp
+  updated_at: DefaultTimestamp
+}
+
+export interface AuditLogTable {
+  id: Generated<number>
+  at: DefaultTimestamp
+  actor_id: number | null
+  action: string
+  entity: string
+  entity_id: string | null
+  details: Json
+  ip: string | null
+}
+
+export interface LoginAttemptsTable {
+  id: Generated<number>
+  at: DefaultTimestamp
+  email: string
+  ip: string
+  success: boolean
+}
+
+export interface RuleProfilesTable {
+  id: Generated<number>
+  facility_id: number
+  version: number
+  nail_clearance_mm: Numeric
+  distal_screw_rounding: 'up' | 'down'
+  tad_limit_mm: Numeric
+  created_by: number | null
+  created_at: DefaultTimestamp
+}
+
+export interface PatientsTable {
+  id: Generated<number>
+  facility_id: number
+  mrn: string
+  family_name: string
+  given_name: string
+  birth_date: string
+  sex: 'female' | 'male' | 'other' | 'unknown'
+  created_at: DefaultTimestamp
+}
+
+export interface MakersTable {
+  id: Generated<number>
+  name: string
+  address: Generated<string>
+  website: Generated<string>
+}
+
+export type ItemKind = 'nail' | 'head_element' | 'distal_screw' | 'set_screw' | 'end_cap' | 'other'
+
+export interface CatalogItemsTable {
+  id: Generated<number>
+  kind: ItemKind
+  description: string
+  maker_id: number | null
+  reference: string | null
+  gtin: string | null
+  hibcc_di: string | null
+  diameter_mm: Numeric | null
+  length_mm: Numeric | null
+  angle_deg: Numeric | null
+  side: 'left' | 'right' | null
+  nail_type: 'short' | 'long' | null
+  material: Generated<string>
+  unit_cost: ColumnType<string, string | number | undefined, string | number>
+  implant_card: Generated<boolean>
+  active: Generated<boolean>
+  created_at: DefaultTimestamp
+}
+
+export interface StockLocationsTable {
+  id: Generated<number>
+  facility_id: number
+  code: string
+  name: string
+  theatre_id: number | null
+}
+
+export interface StockLinesTable {
+  id: Generated<number>
+  location_id: number
+  item_id: number
+  lot: string | null
+  expiry: string | null
+  on_hand: Generated<number>
+  quarantined: Generated<boolean>
+  updated_at: DefaultTimestamp
+}
+
+export type CaseStatus = 'planned' | 'open' | 'closed' | 'signed'
+
+export interface CasesTable {
+  id: Generated<number>
+  facility_id: number
+  theatre_id: number
+  patient_id: number
+  procedure: 'short_nail' | 'long_nail'
+  side: 'left' | 'right'
+  surgeon_id: number
+  circulator_id: number | null
+  scrub_id: number | null
+  scheduled_at: Timestamp
+  status: Generated<CaseStatus>
+  rule_profile_id: number | null
+  client_key: string | null
+  created_by: number | null
+  created_at: DefaultTimestamp
+  opened_at: Timestamp | null
+  closed_at: Timestamp | null
+}
+
+export type ReadingKind =
+  | 'reamed_diameter' | 'nail_length' | 'native_angle' | 'head_element_length' | 'head_compression' | 'distal_depth'
+  | 'tad_ap_tip_apex' | 'tad_ap_screw_diameter' | 'tad_lat_tip_apex' | 'tad_lat_screw_diameter' | 'tad_true_screw_diameter'
+
+export interface ReadingsTable {
+  id: Generated<number>
+  case_id: number
+  kind: ReadingKind
+  slot: Generated<number>
+  value: Numeric
+  unit: 'mm' | 'deg'
+  supersedes_id: number | null
+  note: string | null
+  client_key: string | null
+  entered_by: number
+  entered_at: DefaultTimestamp
+}
+
+export interface SizingDecisionsTable {
+  id: Generated<number>
+  case_id: number
+  component: 'nail' | 'head_element' | 'distal_screw'
+  slot: Generated<number>
+  proposed_item_id: number | null
+  chosen_item_id: number
+  engine: Json
+  rule_profile_id: number | null
+  reason: string | null
+  guide_acknowledged: Generated<boolean>
+  client_key: string | null
+  decided_by: number
+  decided_at: DefaultTimestamp
+}
+
+export interface Database {
+  facilities: FacilitiesTable
+  theatres: TheatresTable
+  users: UsersTable
+  audit_log: AuditLogTable
+  login_attempts: LoginAttemptsTable
+  rule_profiles: RuleProfilesTable
+  patients: PatientsTable
+  makers: MakersTable
+  catalog_items: CatalogItemsTable
+  stock_locations: StockLocationsTable
+  stock_lines: StockLinesTable
+  cases: CasesTable
+  readings: ReadingsTable
+  sizing_decisions: SizingDecisionsTable
+}
+
+export type UserRow = Selectable<UsersTable>
+export type NewUser = Insertable<UsersTable>
+export type UserUpdate = Updateable<UsersTable>
+export type CaseRow = Selectable<CasesTable>
+export type CatalogItemRow = Selectable<CatalogItemsTable>
+export type ReadingRow = Selectable<ReadingsTable>
