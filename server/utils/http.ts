@@ -1,0 +1,69 @@
+import type { H3Event } from 'h3'
+import type { z } from 'zod'
+
+/** Field path → first message, for forms to show beside each field. */
+export function fieldErrors(issues: readonly z.core.$ZodIssue[]): Record<string, string> {
+  const out: Record<string, string> = {}
+  for (const i of issues) {
+    const key = i.path.map(String).join('.') || '_'
+    out[key] ??= i.message
+  }
+  return out
+}
+
+function badRequest(issues: readonly z.core.$ZodIssue[]): never {
+  const fields = fieldErrors(issues)
+  throw createError({
+    statusCode: 400,
+    statusMessage: 'Validation Error',
+    message: `Check ${Object.keys(fields).length === 1 ? 'this field' : 'these fields'}: ${Object.entries(fields).map(([k, m]) => `${k} — ${m}`).join('; ')}`,
+    data: { fields, issues: issues.map((i) => ({ path: i.path.map(String), message: i.message, code: i.code })) },
+  })
+}
+
+/** Read and validate a JSON body with a shared zod schema; a bad body is a 400 that names each field. */
+export async function readBodyWith<S extends z.ZodType>(event: H3Event, schema: S): Promise<z.output<S>> {
+  let raw: unknown
+  try {
+    raw = await readBody(event)
+  } catch {
+    throw createError({ statusCode: 400, statusMessage: 'Bad Request', message: 'The request body is not valid JSON.' })
+  }
+  const r = await schema.safeParseAsync(raw ?? {})
+  if (!r.success) badRequest(r.error.issues)
+  return r.data
+}
+
+export async function queryWith<S extends z.ZodType>(event: H3Event, schema: S): Promise<z.output<S>> {
+  const r = await schema.safeParseAsync(getQuery(event))
+  if (!r.success) badRequest(r.error.issues)
+  return r.data
+}
+
+export async function paramsWith<S extends z.ZodType>(event: H3Event, schema: S): Promise<z.output<S>> {
+  const r = await schema.safeParseAsync(getRouterParams(event))
+  if (!r.success) {
+    throw createError({ statusCode: 404, statusMessage: 'Not Found', message: 'No such record.' })
+  }
+  return r.data
+}
+
+/** The caller's address; X-Forwarded-For only when the server is told it sits behind a proxy. */
+export function clientIp(event: H3Event): string {
+  // env overrides arrive as boolean, number or string depending on how they were written
+  if (['true', '1'].includes(String(useRuntimeConfig(event).trustProxy))) {
+    const fwd = getRequestHeader(event, 'x-forwarded-for')
+    if (fwd) return fwd.split(',')[0]!.trim()
+  }
+  return getRequestIP(event) ?? 'unknown'
+}
+
+/** Map database errors people can cause (duplicate, broken reference) to 409s; rethrow the rest. */
+export function mapDbError(e: unknown, what = 'record'): never {
+  const code = (e as { code?: string })?.code
+  if (code === '23505') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} already exists.` })
+  if (code === '23503') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} refers to something that does not exist.` })
+  if (code === '23514') throw createError({ statusCode: 400, statusMessage: 'Bad Request', message: `This ${what} breaks a rule of the record.` })
+  if (code === '23001' || code === 'P0001') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} is locked and cannot be changed.` })
+  throw e
+}
