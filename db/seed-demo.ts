@@ -55,12 +55,10 @@ export async function seedDemo(db: Kysely<Database>): Promise<{ facilityId: numb
         .returning('id').executeTakeFirstOrThrow()).id
     }
 
-    const hasProfile = await trx.selectFrom('rule_profiles').select('id').where('facility_id', '=', facility.id).executeTakeFirst()
-    if (!hasProfile) {
-      await trx.insertInto('rule_profiles').values({
+    const profile = await trx.selectFrom('rule_profiles').select('id').where('facility_id', '=', facility.id).orderBy('version', 'desc').executeTakeFirst()
+      ?? await trx.insertInto('rule_profiles').values({
         facility_id: facility.id, version: 1, nail_clearance_mm: 1.0, distal_screw_rounding: 'up', tad_limit_mm: 25, created_by: users.admin,
-      }).execute()
-    }
+      }).returning('id').executeTakeFirstOrThrow()
 
     const maker = await trx.insertInto('makers').values(DEMO_MAKER)
       .onConflict((oc) => oc.column('name').doUpdateSet({ address: DEMO_MAKER.address }))
@@ -101,7 +99,7 @@ export async function seedDemo(db: Kysely<Database>): Promise<{ facilityId: numb
     for (const b of bookings) {
       await trx.insertInto('cases').values({
         facility_id: facility.id, theatre_id: tid(b.theatre), patient_id: pid(b.mrn), procedure: b.procedure, side: b.side,
-        surgeon_id: users.surgeon!, circulator_id: users.circulator!, scrub_id: users.scrub!,
+        surgeon_id: users.surgeon!, circulator_id: users.circulator!, scrub_id: users.scrub!, rule_profile_id: profile.id,
         scheduled_at: sql<Date>`(${`${today} ${b.time}`}::timestamp AT TIME ZONE ${facility.time_zone})` as never,
         client_key: keyOf(`demo-case/${today}/${b.theatre}/${b.time}`), created_by: users.circulator!,
       }).onConflict((oc) => oc.column('client_key').doNothing()).execute()

@@ -1,2 +1,10 @@
 // Screens that exist in this build; the navigation shows only these (and only those the role may open).
 export const BUILT_SCREENS: string[] = ['/']
+
+// The case's four steps (DESIGN.md); a step not built yet is shown but cannot be opened.
+export const CASE_STEPS = [
+  { to: '', label: 'Readings', enabled: true },
+  { to: '/sizes', label: 'Sizes', enabled: true },
+  { to: '/implants', label: 'Implants', enabled: false },
+  { to: '/record', label: 'Record', enabled: false },
+]

@@ -19,11 +19,13 @@ export interface ComponentSizing {
   ideal: ShelfItem | null
   choice: ShelfItem | null
   alternatives: ShelfItem[]
+  /** every in-stock size of this kind (and, for nails, this side and type) the team may choose instead */
+  options: ShelfItem[]
   warnings: Finding[]
   reasons: string[]
   decision: {
     id: number; chosenItemId: number; chosenDescription: string; proposedItemId: number | null; reason: string | null
-    guideAcknowledged: boolean; decidedBy: string; decidedAt: Date
+    guideAcknowledged: boolean; decidedBy: string; decidedAt: string
   } | null
   /** the confirmed size no longer matches what the rules now propose (a reading or the shelf changed) */
   decisionStale: boolean
@@ -65,14 +67,18 @@ export async function caseSizing(db: Db, caseId: number) {
   const byId = new Map(shelf.map((i) => [String(i.id), i]))
   const lines = (kind: Component) => shelf.filter((i) => i.kind === kind).map(toStockLine).filter((l): l is StockLine => !!l)
 
+  const nailType = h.procedure === 'short_nail' ? 'short' : 'long'
+  const optionsFor = (component: Component) => shelf.filter((i) => i.kind === component && i.onHand > 0 &&
+    (component !== 'nail' || ((i.side === null || i.side === h.side) && i.nailType === nailType)))
+
   function run(component: Component, slot: number, needs: ReadingKind[], engine: () => SizingResult): ComponentSizing {
     const missing = needs.filter((k) => value(k, component === 'distal_screw' ? slot : 0) === undefined).map((k) => READING_SPEC[k].label)
     const d = decisions.get(`${component}:${slot}`)
     const out: ComponentSizing = {
-      component, slot, missing, error: null, ideal: null, choice: null, alternatives: [], warnings: [], reasons: [],
+      component, slot, missing, error: null, ideal: null, choice: null, alternatives: [], options: optionsFor(component), warnings: [], reasons: [],
       decision: d ? {
         id: d.id, chosenItemId: d.chosen_item_id, chosenDescription: d.chosen_description, proposedItemId: d.proposed_item_id,
-        reason: d.reason, guideAcknowledged: d.guide_acknowledged, decidedBy: d.decided_by_name, decidedAt: d.decided_at,
+        reason: d.reason, guideAcknowledged: d.guide_acknowledged, decidedBy: d.decided_by_name, decidedAt: new Date(d.decided_at).toISOString(),
       } : null,
       decisionStale: false,
     }
@@ -92,7 +98,6 @@ export async function caseSizing(db: Db, caseId: number) {
     return out
   }
 
-  const nailType = h.procedure === 'short_nail' ? 'short' : 'long'
   const nail = run('nail', 0, ['reamed_diameter', 'nail_length', 'native_angle'], () => chooseNail({
     reamedDiameterMm: value('reamed_diameter')!, lengthMm: value('nail_length')!, nativeAngleDeg: value('native_angle')!,
     side: h.side, nailType,

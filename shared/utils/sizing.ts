@@ -266,6 +266,14 @@ function fmtClearance(n: number): string {
   return d.decimalPlaces() === 0 ? d.toFixed(1) : d.toString()
 }
 
+/** A stock line as people say it: "11 × 380 mm, 130°" for a nail, "95 mm" for a screw. */
+export function describeLine(l: StockLine): string {
+  if (l.kind === 'nail') {
+    return `${fmt(l.diameterMm)} × ${fmt(l.lengthMm)} mm${l.angleDeg !== undefined ? `, ${fmt(l.angleDeg)}°` : ''}${l.side ? `, ${l.side}` : ''}`
+  }
+  return `${fmt(l.lengthMm)} mm`
+}
+
 function byId(a: StockLine, b: StockLine): number {
   // Code-unit comparison, not locale: results must not change with the browser's language.
   return a.id < b.id ? -1 : a.id > b.id ? 1 : 0
@@ -323,7 +331,7 @@ function finish(
       warnings.push({
         code: 'out_of_stock',
         message:
-          `The best-fitting ${what} (${ideal.id}) is not on hand. ` +
+          `The best-fitting ${what} (${describeLine(ideal)}) is not on hand. ` +
           (alternatives.length > 0
             ? 'Pick one of the alternatives on hand or get this size before the case.'
             : 'No other fitting size is on hand: get this size before the case.'),
@@ -534,7 +542,7 @@ export function chooseNail(q: NailQuery, stock: StockLine[], rules?: Partial<Siz
   ])
   const lowAngleAlt = alternatives.filter((l) => dec(l.angleDeg as number).lt(native))
   if (lowAngleAlt.length > 0 && notBelow) {
-    const ids = lowAngleAlt.map((l) => l.id).join(', ')
+    const ids = lowAngleAlt.map(describeLine).join('; ')
     reasons.push(
       lowAngleAlt.length === 1
         ? `Alternative ${ids} has an angle below the native ${fmt(native)}°.`

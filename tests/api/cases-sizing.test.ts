@@ -167,6 +167,8 @@ describe('sizing on the live shelf', () => {
       expect(after.nail.ideal.id).toBe(ideal.id)
       expect(after.nail.choice).toBeNull()
       expect(after.nail.warnings.map((w: any) => w.code)).toContain('out_of_stock')
+      // the message names the size a nurse would fetch, not an internal id
+      expect(after.nail.warnings.find((w: any) => w.code === 'out_of_stock').message).toContain('11 × 380 mm, 130°, right')
       expect(after.nail.alternatives.length).toBeGreaterThan(0)
       for (const a of after.nail.alternatives) {
         expect(a.onHand).toBeGreaterThan(0)

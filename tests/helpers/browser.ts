@@ -1,5 +1,5 @@
 // playwright-core driving Debian's chromium (no downloaded browser). Flags keep chromium off the network.
-import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core'
+import { chromium, selectors, type Browser, type BrowserContext, type Page } from 'playwright-core'
 
 export const CHROMIUM_ARGS = [
   '--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
@@ -13,6 +13,8 @@ export const VIEWPORTS = {
 } as const
 
 export function launchBrowser(): Promise<Browser> {
+  // our markup names test hooks data-test
+  selectors.setTestIdAttribute('data-test')
   return chromium.launch({ executablePath: process.env.CHROMIUM_PATH || '/usr/bin/chromium', args: CHROMIUM_ARGS })
 }
 
@@ -26,7 +28,19 @@ export async function newPage(browser: Browser, baseURL: string, viewport: keyof
 /** Sign in through the form, as a person would. */
 export async function signIn(page: Page, email: string, password: string): Promise<void> {
   await page.goto('/login')
+  await hydrated(page)
   await page.getByLabel('E-mail').fill(email)
   await page.getByLabel('Password').fill(password)
   await page.getByRole('button', { name: 'Sign in' }).click()
+}
+
+/** Wait until the app has hydrated (app.vue marks the body), as a person waits for a page to be ready. */
+export async function hydrated(page: Page): Promise<void> {
+  await page.waitForSelector('body[data-hydrated="true"]', { timeout: 15_000 })
+}
+
+/** Go to a page and wait until it is ready to use. */
+export async function open(page: Page, path: string): Promise<void> {
+  await page.goto(path)
+  await hydrated(page)
 }

@@ -30,10 +30,13 @@ export default defineEventHandler(async (event) => {
     if (!comp || comp.missing.length) {
       invalid({ component: comp ? `Enter ${comp.missing.join(', ')} first.` : 'Enter the depth reading for this screw first.' })
     }
+    const proposedId = comp.ideal?.id ?? null
     const allowed = [comp.ideal, ...comp.alternatives].filter(Boolean).map((i) => i!.id)
     const item = await trx.selectFrom('catalog_items').select(['id', 'kind', 'active']).where('id', '=', body.chosenItemId).executeTakeFirst()
     if (!item || !item.active || item.kind !== body.component) invalid({ chosenItemId: 'Choose a size of this kind from the catalog.' })
-    const proposedId = comp.ideal?.id ?? null
+    if (body.component === 'nail' && !comp.options.some((o) => o.id === body.chosenItemId) && body.chosenItemId !== proposedId) {
+      invalid({ chosenItemId: 'Choose a nail for this side and procedure that is on the shelf.' })
+    }
     const differs = body.chosenItemId !== proposedId
     if (differs && !body.reason) {
       invalid({ reason: 'Give a reason when the chosen size differs from the proposed size.' })
