@@ -17,6 +17,9 @@ export interface FacilitiesTable {
   name: string
   time_zone: Generated<string>
   created_at: DefaultTimestamp
+  gs_substitute: string | null
+  records_inbox: string | null
+  address: Generated<string>
 }
 
 export interface TheatresTable {
@@ -184,6 +187,95 @@ export interface SizingDecisionsTable {
   decided_at: DefaultTimestamp
 }
 
+export interface RecallsTable {
+  id: Generated<number>
+  title: string
+  notice_ref: Generated<string>
+  fda_class: 'I' | 'II' | 'III' | null
+  maker: Generated<string>
+  received_on: string | null
+  status: Generated<'open' | 'closed'>
+  created_by: number | null
+  created_at: DefaultTimestamp
+}
+
+export interface RecallItemsTable {
+  id: Generated<number>
+  recall_id: number
+  di: string
+  lot: string | null
+  serial: string | null
+  expiry_from: string | null
+  expiry_to: string | null
+}
+
+export type Disposition = 'implanted' | 'wasted' | 'explanted'
+export type WasteReason = 'contaminated' | 'wrong_size' | 'damaged_package' | 'plan_changed' | 'other'
+export type CaptureSource = 'camera' | 'wedge' | 'photo' | 'manual'
+
+export interface ItemCheck {
+  code: string
+  message: string
+  source?: string
+  /** must someone confirm they have seen it before the case closes? */
+  needsAck: boolean
+}
+
+export interface CaseItemsTable {
+  id: Generated<number>
+  case_id: number
+  item_id: number | null
+  raw_scan: string | null
+  issuer: 'GS1' | 'HIBCC' | null
+  di: string | null
+  lot: string | null
+  serial: string | null
+  expiry: string | null
+  manufactured: string | null
+  hri: string | null
+  source: CaptureSource
+  disposition: Disposition
+  waste_reason: WasteReason | null
+  waste_note: string | null
+  checks: Json<ItemCheck[]>
+  acknowledged_by: number | null
+  acknowledged_at: Timestamp | null
+  acknowledgement_note: string | null
+  matched_by: number | null
+  matched_at: Timestamp | null
+  match_reason: string | null
+  stock_line_id: number | null
+  client_key: string
+  recorded_by: number
+  recorded_at: DefaultTimestamp
+}
+
+export interface ScanEventsTable {
+  id: Generated<number>
+  case_id: number
+  client_key: string
+  raw: string | null
+  source: string
+  result: 'accepted' | 'check' | 'refused'
+  code: string | null
+  status_code: number
+  response: Json<Record<string, unknown>>
+  case_item_id: number | null
+  scanned_by: number
+  scanned_at: DefaultTimestamp
+}
+
+export interface StockMovementsTable {
+  id: Generated<number>
+  stock_line_id: number
+  delta: number
+  reason: 'implant' | 'waste' | 'receive' | 'adjust' | 'transfer' | 'return'
+  case_item_id: number | null
+  note: string | null
+  moved_by: number | null
+  moved_at: DefaultTimestamp
+}
+
 export interface Database {
   facilities: FacilitiesTable
   theatres: TheatresTable
@@ -199,6 +291,11 @@ export interface Database {
   cases: CasesTable
   readings: ReadingsTable
   sizing_decisions: SizingDecisionsTable
+  recalls: RecallsTable
+  recall_items: RecallItemsTable
+  case_items: CaseItemsTable
+  scan_events: ScanEventsTable
+  stock_movements: StockMovementsTable
 }
 
 export type UserRow = Selectable<UsersTable>
