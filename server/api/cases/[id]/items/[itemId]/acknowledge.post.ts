@@ -3,7 +3,7 @@ import { AcknowledgeBody, ItemParams } from '../../../../../../shared/schemas/it
 import { assertEditable, loadCase } from '../../../../../queries/cases'
 
 export default defineEventHandler(async (event) => {
-  const { user } = await requireRole(event, 'circulator', 'surgeon')
+  const { user } = await requireRole(event, 'circulator', 'surgeon', 'scrub')
   const { id, itemId } = await paramsWith(event, ItemParams)
   const body = await readBodyWith(event, AcknowledgeBody)
   const db = useDb()

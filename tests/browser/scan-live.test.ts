@@ -1,0 +1,93 @@
+import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
+import type { Browser } from 'playwright-core'
+import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { standardShelf } from '../helpers/catalog'
+import { confirm, createCase, gs1Scan, reading } from '../helpers/cases'
+import { clientFrom } from '../helpers/http'
+import { makeSymbolPng } from '../helpers/barcodes'
+
+const baseURL = inject('baseURL')
+let browser: Browser
+let f: TestFacility
+let shelf: Awaited<ReturnType<typeof standardShelf>>
+
+beforeAll(async () => {
+  browser = await launchBrowser()
+  f = await makeFacility()
+  shelf = await standardShelf(f)
+})
+afterAll(async () => {
+  await browser?.close()
+  await closeTestDb()
+})
+
+describe('scanning on the phone, seen on the tablet', () => {
+  it('a scan typed into the scrub’s scanner field appears on the circulator’s page within a second', async () => {
+    const api = clientFrom(baseURL)
+    await api.login(f.users.circulator.email, TEST_PASSWORD)
+    const id = await createCase(api, f)
+    await reading(api, id, 'head_element_length', 92)
+    const s = (await api.get(`/api/cases/${id}/sizing`)).body
+    const surgeon = clientFrom(baseURL)
+    await surgeon.login(f.users.surgeon.email, TEST_PASSWORD)
+    await confirm(surgeon, id, 'head_element', s.headElement.ideal.id)
+    const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
+
+    const circ = await newPage(browser, baseURL, 'tablet')
+    await signIn(circ.page, f.users.circulator.email, TEST_PASSWORD)
+    await circ.page.waitForURL((u) => u.pathname === '/')
+    await open(circ.page, `/cases/${id}/implants`)
+    await circ.page.getByTestId('log-empty').waitFor()
+    await circ.page.getByText('● Live').waitFor()
+
+    const scrub = await newPage(browser, baseURL, 'phone')
+    await signIn(scrub.page, f.users.scrub.email, TEST_PASSWORD)
+    await scrub.page.waitForURL((u) => u.pathname === '/')
+    await open(scrub.page, `/cases/${id}/implants`)
+    // "next to open" lists the confirmed head element
+    expect(await scrub.page.getByTestId('next-to-open').textContent()).toContain('90 mm')
+
+    const wedge = scrub.page.getByTestId('wedge')
+    await wedge.fill(gs1Scan(he.gtin, { expiry: '2030-12-31', lot: `L${he.id}`, serial: 'LIVE-1' }))
+    const t0 = Date.now()
+    await wedge.press('Enter')
+    // the scrub sees the band: accepted, in words and colour
+    const band = scrub.page.getByTestId('scan-band')
+    await band.waitFor()
+    expect(await band.getAttribute('data-result')).toBe('accepted')
+    expect(await band.textContent()).toContain('Accepted')
+    // the circulator's tablet shows it without a reload
+    await circ.page.getByText('LIVE-1').waitFor({ timeout: 1500 })
+    expect(Date.now() - t0).toBeLessThan(1500)
+    expect(await circ.page.getByTestId('totals').textContent()).toMatch(/1\s*implanted/)
+
+    // an expired pack is refused on the phone with what to do, and the log stays as it was
+    const [old] = await (await import('../helpers/catalog')).addItems(f, [{ kind: 'distal_screw', d: 5, len: 40, lot: 'OLD', expiry: '2021-03-31' }])
+    await wedge.fill(gs1Scan(old!.gtin, { expiry: '2021-03-31', lot: 'OLD' }))
+    await wedge.press('Enter')
+    await scrub.page.locator('[data-test="scan-band"][data-result="refused"]').waitFor()
+    expect(await scrub.page.getByTestId('scan-message').textContent()).toBe('Expired 2021-03-31 — do not open. Fetch another pack.')
+    const n = await testDb().selectFrom('case_items').select(({ fn }) => fn.countAll<number>().as('n')).where('case_id', '=', id).executeTakeFirstOrThrow()
+    expect(Number(n.n)).toBe(1)
+
+    // a wasted screw: choose Waste and a reason, then scan
+    const ds = shelf.rows.find((r) => r.spec.kind === 'distal_screw' && r.spec.len === 36)!
+    await scrub.page.getByTestId('mode-waste').click()
+    await scrub.page.getByTestId('waste-contaminated').click()
+    await wedge.fill(gs1Scan(ds.gtin, { expiry: '2030-12-31', lot: `L${ds.id}` }))
+    await wedge.press('Enter')
+    await circ.page.locator('[data-disposition="wasted"]').waitFor({ timeout: 1500 })
+    expect(await circ.page.locator('[data-disposition="wasted"]').textContent()).toContain('Contaminated or dropped')
+
+    // a photo of a label: a real GS1 DataMatrix image (bwip-js) decoded in the browser by @zxing/browser
+    const set = shelf.rows.find((r) => r.spec.kind === 'set_screw')!
+    const png = await makeSymbolPng('gs1datamatrix', `(01)${set.gtin}(17)301231(10)PHOTO-LOT`, { scale: 6 })
+    await scrub.page.getByTestId('photo-input').setInputFiles({ name: 'label.png', mimeType: 'image/png', buffer: png })
+    await circ.page.getByText('PHOTO-LOT').waitFor({ timeout: 5000 })
+    const photo = await testDb().selectFrom('case_items').select(['source', 'lot', 'expiry']).where('case_id', '=', id).where('lot', '=', 'PHOTO-LOT').executeTakeFirstOrThrow()
+    expect(photo).toEqual({ source: 'photo', lot: 'PHOTO-LOT', expiry: '2030-12-31' })
+    await circ.context.close()
+    await scrub.context.close()
+  })
+})
