@@ -276,6 +276,44 @@ export interface StockMovementsTable {
   moved_at: DefaultTimestamp
 }
 
+export interface RecordVersionsTable {
+  id: Generated<number>
+  case_id: number
+  version: number
+  previous_id: number | null
+  reason: string | null
+  record: Json<Record<string, unknown>>
+  record_hash: string
+  pdf: Buffer
+  pdf_hash: string
+  attestation: string
+  signed_by: number
+  signed_at: Timestamp
+}
+
+export interface OutboxTable {
+  id: Generated<number>
+  created_at: DefaultTimestamp
+  to_address: string
+  subject: string
+  body_text: string
+  body_html: string | null
+  attachments: ColumnType<
+    { filename: string; contentType: string; contentBase64: string }[],
+    { filename: string; contentType: string; contentBase64: string }[] | string | undefined,
+    { filename: string; contentType: string; contentBase64: string }[] | string
+  >
+  kind: string
+  ref: string | null
+  dedupe_key: string | null
+  status: Generated<'pending' | 'sending' | 'sent' | 'failed'>
+  attempts: Generated<number>
+  next_attempt_at: DefaultTimestamp
+  last_error: string | null
+  sent_at: Timestamp | null
+  message_id: string | null
+}
+
 export interface Database {
   facilities: FacilitiesTable
   theatres: TheatresTable
@@ -296,6 +334,8 @@ export interface Database {
   case_items: CaseItemsTable
   scan_events: ScanEventsTable
   stock_movements: StockMovementsTable
+  record_versions: RecordVersionsTable
+  outbox: OutboxTable
 }
 
 export type UserRow = Selectable<UsersTable>

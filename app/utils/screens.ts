@@ -6,5 +6,5 @@ export const CASE_STEPS = [
   { to: '', label: 'Readings', enabled: true },
   { to: '/sizes', label: 'Sizes', enabled: true },
   { to: '/implants', label: 'Implants', enabled: true },
-  { to: '/record', label: 'Record', enabled: false },
+  { to: '/record', label: 'Record', enabled: true },
 ]
