@@ -1,0 +1,73 @@
+import { existsSync, readFileSync } from 'node:fs'
+import { createHash } from 'node:crypto'
+import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
+import type { Browser } from 'playwright-core'
+import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { standardShelf } from '../helpers/catalog'
+import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
+import { clientFrom } from '../helpers/http'
+
+const baseURL = inject('baseURL')
+let browser: Browser
+let f: TestFacility
+let shelf: Awaited<ReturnType<typeof standardShelf>>
+
+beforeAll(async () => {
+  browser = await launchBrowser()
+  f = await makeFacility()
+  shelf = await standardShelf(f)
+})
+afterAll(async () => {
+  await browser?.close()
+  await closeTestDb()
+})
+
+describe('the surgeon signs on the tablet', () => {
+  it('closes, signs with the password, and downloads the signed PDF', async () => {
+    const circ = clientFrom(baseURL)
+    await circ.login(f.users.circulator.email, TEST_PASSWORD)
+    const surgeonApi = clientFrom(baseURL)
+    await surgeonApi.login(f.users.surgeon.email, TEST_PASSWORD)
+    const id = await createCase(circ, f)
+    await reading(circ, id, 'head_element_length', 92)
+    const s = (await circ.get(`/api/cases/${id}/sizing`)).body
+    await confirm(surgeonApi, id, 'head_element', s.headElement.ideal.id)
+    const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
+    expect((await scan(circ, id, gs1Scan(he.gtin, { expiry: '2030-12-31', lot: 'SIGN-LOT' }))).status).toBe(201)
+
+    // the circulator closes the log from the Record step
+    const c = await newPage(browser, baseURL, 'tablet')
+    await signIn(c.page, f.users.circulator.email, TEST_PASSWORD)
+    await c.page.waitForURL((u) => u.pathname === '/')
+    await open(c.page, `/cases/${id}/record`)
+    await c.page.getByTestId('ready').waitFor()
+    await c.page.getByTestId('close-case').click()
+    await c.page.getByTestId('close-confirm').click()
+    await c.page.getByTestId('sign').waitFor()
+    await c.context.close()
+
+    const { context, page } = await newPage(browser, baseURL, 'tablet')
+    await signIn(page, f.users.surgeon.email, TEST_PASSWORD)
+    await page.waitForURL((u) => u.pathname === '/')
+    await open(page, `/cases/${id}/record`)
+    await page.getByTestId('sign-form').waitFor()
+    // a wrong password is refused on the form
+    await page.getByTestId('sign-password').fill('not-the-password')
+    await page.getByTestId('sign-submit').click()
+    await page.getByText('The password is not right.').waitFor()
+    await page.getByTestId('sign-password').fill(TEST_PASSWORD)
+    await page.getByTestId('sign-submit').click()
+    await page.getByTestId('version-1').waitFor({ timeout: 15_000 })
+    expect(await page.getByTestId('case-status').first().textContent()).toContain('Signed')
+
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByTestId('download-1').click()])
+    const file = await download.path()
+    expect(file && existsSync(file)).toBe(true)
+    const bytes = readFileSync(file!)
+    expect(bytes.subarray(0, 5).toString()).toBe('%PDF-')
+    const stored = await testDb().selectFrom('record_versions').select('pdf_hash').where('case_id', '=', id).executeTakeFirstOrThrow()
+    expect(createHash('sha256').update(bytes).digest('hex')).toBe(stored.pdf_hash)
+    await context.close()
+  })
+})
