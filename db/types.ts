@@ -197,6 +197,8 @@ export interface RecallsTable {
   status: Generated<'open' | 'closed'>
   created_by: number | null
   created_at: DefaultTimestamp
+  closed_at: Timestamp | null
+  client_key: string | null
 }
 
 export interface RecallItemsTable {
@@ -207,6 +209,7 @@ export interface RecallItemsTable {
   serial: string | null
   expiry_from: string | null
   expiry_to: string | null
+  note: string | null
 }
 
 export type Disposition = 'implanted' | 'wasted' | 'explanted'
@@ -314,6 +317,38 @@ export interface OutboxTable {
   message_id: string | null
 }
 
+export interface PhiAccessLogTable {
+  id: Generated<number>
+  at: DefaultTimestamp
+  user_id: number
+  action: string
+  query: Json
+  patients: number
+  rows: number
+}
+
+export type RecallPatientStatus = 'open' | 'surgeon_notified' | 'patient_contacted' | 'no_action_needed' | 'closed'
+
+export interface RecallPatientsTable {
+  id: Generated<number>
+  recall_id: number
+  case_item_id: number
+  status: Generated<RecallPatientStatus>
+  note: string | null
+  updated_by: number | null
+  updated_at: DefaultTimestamp
+}
+
+export interface RecallStockTable {
+  id: Generated<number>
+  recall_id: number
+  stock_line_id: number
+  on_hand_at_match: number
+  status: Generated<'to_pull' | 'pulled' | 'returned'>
+  updated_by: number | null
+  updated_at: DefaultTimestamp
+}
+
 export interface Database {
   facilities: FacilitiesTable
   theatres: TheatresTable
@@ -336,6 +371,9 @@ export interface Database {
   stock_movements: StockMovementsTable
   record_versions: RecordVersionsTable
   outbox: OutboxTable
+  phi_access_log: PhiAccessLogTable
+  recall_patients: RecallPatientsTable
+  recall_stock: RecallStockTable
 }
 
 export type UserRow = Selectable<UsersTable>
