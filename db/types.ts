@@ -40,6 +40,8 @@ export interface UsersTable {
   facility_id: number | null
   created_at: DefaultTimestamp
   updated_at: DefaultTimestamp
+  /** device-made key of the admin's create request (idempotent create) */
+  client_key: string | null
 }
 
 export interface AuditLogTable {
@@ -118,6 +120,16 @@ export interface StockLocationsTable {
   code: string
   name: string
   theatre_id: number | null
+  replenished_at: Timestamp | null
+}
+
+export interface ParLevelsTable {
+  id: Generated<number>
+  location_id: number
+  item_id: number
+  par: number
+  updated_by: number | null
+  updated_at: DefaultTimestamp
 }
 
 export interface StockLinesTable {
@@ -277,6 +289,7 @@ export interface StockMovementsTable {
   note: string | null
   moved_by: number | null
   moved_at: DefaultTimestamp
+  client_key: string | null
 }
 
 export interface RecordVersionsTable {
@@ -374,6 +387,7 @@ export interface Database {
   phi_access_log: PhiAccessLogTable
   recall_patients: RecallPatientsTable
   recall_stock: RecallStockTable
+  par_levels: ParLevelsTable
 }
 
 export type UserRow = Selectable<UsersTable>

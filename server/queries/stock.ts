@@ -53,3 +53,31 @@ export async function facilityShelf(db: Db, facilityId: number, kinds: ItemKind[
   }
   return [...byItem.values()]
 }
+
+/** The stock location, if it belongs to the person's facility. */
+export async function locationFor(db: Db, locationId: number, facilityId: number) {
+  const loc = await db.selectFrom('stock_locations').selectAll().where('id', '=', locationId).where('facility_id', '=', facilityId).executeTakeFirst()
+  if (!loc) throw createError({ statusCode: 400, statusMessage: 'Validation Error', message: 'Choose one of this facility’s stock locations.', data: { fields: { locationId: 'Choose one of this facility’s stock locations.' } } })
+  return loc
+}
+
+/** A stock line of the person's facility, locked for a change. */
+export async function lineFor(db: Db, stockLineId: number, facilityId: number) {
+  const line = await db.selectFrom('stock_lines as sl').innerJoin('stock_locations as loc', 'loc.id', 'sl.location_id')
+    .select(['sl.id', 'sl.item_id', 'sl.lot', 'sl.expiry', 'sl.on_hand', 'sl.quarantined', 'sl.location_id'])
+    .where('sl.id', '=', stockLineId).where('loc.facility_id', '=', facilityId).forUpdate('sl').executeTakeFirst()
+  if (!line) throw createError({ statusCode: 404, statusMessage: 'Not Found', message: 'No such stock line.' })
+  return line
+}
+
+/** Add packs to a line (item + lot at a location), making the line when it is new. */
+export async function addToLine(db: Db, p: { locationId: number; itemId: number; lot: string | null; expiry: string | null; count: number }) {
+  const existing = await db.selectFrom('stock_lines').select(['id', 'quarantined'])
+    .where('location_id', '=', p.locationId).where('item_id', '=', p.itemId).where(sql<boolean>`coalesce(lot, '') = ${p.lot ?? ''}`).forUpdate().executeTakeFirst()
+  if (existing) {
+    await db.updateTable('stock_lines').set((eb) => ({ on_hand: eb('on_hand', '+', p.count), updated_at: new Date(), ...(p.expiry ? { expiry: p.expiry } : {}) })).where('id', '=', existing.id).execute()
+    return { id: existing.id, created: false, quarantined: existing.quarantined }
+  }
+  const r = await db.insertInto('stock_lines').values({ location_id: p.locationId, item_id: p.itemId, lot: p.lot, expiry: p.expiry, on_hand: p.count }).returning('id').executeTakeFirstOrThrow()
+  return { id: r.id, created: true, quarantined: false }
+}

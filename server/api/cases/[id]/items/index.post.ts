@@ -14,6 +14,7 @@ import { isValidGtin, parseUdi, toHri } from '../../../../../shared/utils/udi'
 import { dayInZone } from '../../../../../shared/utils/dates'
 import { assertEditable, loadCase, openIfPlanned } from '../../../../queries/cases'
 import { catalogFacts, itemByDi, recallsFor, shelfLineFor } from '../../../../queries/items'
+import { noteLowStock } from '../../../../queries/replenishment'
 import type { SignedIn } from '../../../../utils/session'
 
 interface Outcome { status: number; body: Record<string, unknown>; replayed?: boolean }
@@ -145,6 +146,7 @@ export default defineEventHandler(async (event) => {
         await trx.insertInto('stock_movements').values({
           stock_line_id: usable.id, delta: -1, reason: body.disposition === 'wasted' ? 'waste' : 'implant', case_item_id: item.id, moved_by: user.id,
         }).execute()
+        await noteLowStock(trx, usable.id, today)
       }
       await openIfPlanned(trx, locked)
       await writeAudit(trx, {
