@@ -24,6 +24,13 @@ export default defineConfig({
         },
       },
       {
+        // restarts servers and the database: runs on its own, after the other layers (scripts/test.sh)
+        test: {
+          name: 'faults', environment: 'node', include: ['tests/faults/**/*.test.ts'],
+          testTimeout: 300_000, hookTimeout: 120_000, fileParallelism: false,
+        },
+      },
+      {
         test: {
           name: 'browser', environment: 'node', include: ['tests/browser/**/*.test.ts'],
           globalSetup: ['tests/helpers/server-setup.ts'], testTimeout: 60_000, hookTimeout: 60_000,

@@ -14,7 +14,11 @@ export function databaseUrl(): string {
 }
 
 export function createPool(url = databaseUrl(), max = Number(process.env.DATABASE_POOL_MAX || 20)): pg.Pool {
-  return new pg.Pool({ connectionString: url, max, idleTimeoutMillis: 30_000 })
+  const pool = new pg.Pool({ connectionString: url, max, idleTimeoutMillis: 30_000 })
+  // An idle connection dies when PostgreSQL restarts; the pool drops it and opens a new one on the next
+  // query. Without a listener that error would end the process.
+  pool.on('error', (e) => console.warn(`[db] idle connection lost: ${e.message}`))
+  return pool
 }
 
 export function createDb(url = databaseUrl(), pool = createPool(url)): Kysely<Database> {

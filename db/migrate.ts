@@ -9,6 +9,8 @@ async function main() {
   const migrator = new Migrator({
     db,
     provider: new FolderMigrationProvider(),
+    // branches merged in any order each bring their own migrations; each runs once, independent of the others
+    allowUnorderedMigrations: true,
   })
   const { error, results } = process.argv.includes('--down')
     ? await migrator.migrateDown()

@@ -37,24 +37,49 @@ if ! npx nuxt build >/tmp/isthmus-build.log 2>&1; then
   exit 1
 fi
 
-report="$root/.cache/vitest-report.json"
 mkdir -p "$root/.cache"
-rm -f "$report"
-npx vitest run --reporter=default --reporter=json --outputFile.json="$report" "$@"
-vitest_rc=$?
+rm -f "$root"/.cache/vitest-*.json
+if [ "$#" -gt 0 ]; then
+  npx vitest run --reporter=default --reporter=json --outputFile.json="$root/.cache/vitest-1.json" "$@"
+  vitest_rc=$?
+else
+  # every layer but the fault tests at once; then the fault tests alone (they restart servers and PostgreSQL)
+  npx vitest run --project unit --project nuxt --project db --project api --project browser \
+    --reporter=default --reporter=json --outputFile.json="$root/.cache/vitest-1.json"
+  vitest_rc=$?
+  if ls tests/faults/*.test.ts >/dev/null 2>&1; then
+    npx vitest run --project faults --reporter=default --reporter=json --outputFile.json="$root/.cache/vitest-2.json"
+    rc2=$?
+    [ "$rc2" = 0 ] || vitest_rc=$rc2
+  fi
+  if [ -z "${ISTHMUS_SKIP_BENCH_SMOKE:-}" ] && [ -f bench/run.sh ]; then
+    echo "[test] benchmark smoke run"
+    if bash bench/run.sh --smoke >/tmp/isthmus-bench-smoke.log 2>&1; then
+      tail -1 /tmp/isthmus-bench-smoke.log
+    else
+      tail -40 /tmp/isthmus-bench-smoke.log
+      echo "[test] benchmark smoke run FAILED"
+      checks_failed=$((checks_failed + 1))
+    fi
+  fi
+fi
 
 node -e '
   const fs = require("fs");
-  const [file, extraFailed, secs] = process.argv.slice(1);
+  const [dir, extraFailed, secs] = process.argv.slice(1);
   let passed = 0, failed = Number(extraFailed), skipped = 0;
-  try {
-    const r = JSON.parse(fs.readFileSync(file, "utf8"));
-    passed = r.numPassedTests; failed += r.numFailedTests; skipped = r.numPendingTests + (r.numTodoTests || 0);
-    // a file that failed to load has no tests but is still a failure
-    failed += r.testResults.filter((t) => t.status === "failed" && t.assertionResults.length === 0).length;
-  } catch { failed += 1; }
+  const files = fs.readdirSync(dir).filter((f) => /^vitest-\d+\.json$/.test(f));
+  if (!files.length) failed += 1;
+  for (const f of files) {
+    try {
+      const r = JSON.parse(fs.readFileSync(dir + "/" + f, "utf8"));
+      passed += r.numPassedTests; failed += r.numFailedTests; skipped += r.numPendingTests + (r.numTodoTests || 0);
+      // a file that failed to load has no tests but is still a failure
+      failed += r.testResults.filter((t) => t.status === "failed" && t.assertionResults.length === 0).length;
+    } catch { failed += 1; }
+  }
   console.log(`[test] finished in ${secs} s`);
   console.log(`${passed} passed, ${failed} failed` + (skipped ? `, ${skipped} skipped` : ""));
-' "$report" "$checks_failed" "$(( $(date +%s) - started ))"
+' "$root/.cache" "$checks_failed" "$(( $(date +%s) - started ))"
 
 [ "$vitest_rc" = 0 ] && [ "$checks_failed" = 0 ]

@@ -67,6 +67,8 @@ export async function freshDatabase(name: string): Promise<{ url: string; db: Ky
   const migrator = new Migrator({
     db,
     provider: new FolderMigrationProvider(),
+    // branches merged in any order each bring their own migrations; each runs once, independent of the others
+    allowUnorderedMigrations: true,
   })
   const { error } = await migrator.migrateToLatest()
   if (error) throw error

@@ -28,7 +28,8 @@ export interface RunningServer { url: string; port: number; child: ChildProcess;
 
 /** Start one instance of the built app; tests of scale-out and faults start more. */
 export async function startServer(env: Record<string, string> = {}, port?: number): Promise<RunningServer> {
-  const entry = path.join(root, '.output/server/index.mjs')
+  // ISTHMUS_BUILD_DIR: run tests against a copy of a build (e.g. while another build is in progress)
+  const entry = path.join(process.env.ISTHMUS_BUILD_DIR ?? path.join(root, '.output'), 'server/index.mjs')
   if (!existsSync(entry)) throw new Error('No build found: run `npx nuxt build` (npm test does it) before the api and browser layers.')
   port ??= await freePort()
   let log = ''
