@@ -160,6 +160,14 @@ describe('signing', () => {
     expect((rows[1]!.record as any).previousVersionHash).toBe(rec.versions[0].recordHash)
   })
 
+  it('SQL- and script-looking names print as plain text in the PDF', async () => {
+    const { id } = await loggedCase({ patient: { mrn: `X-${f.tag}-${n++}`, familyName: "Robert'); DROP TABLE patients;--", givenName: '<script>alert(1)</script>', birthDate: '1940-02-02', sex: 'male' } })
+    const text = pdftotext((await pdf(as.circulator!, `/api/cases/${id}/record.pdf`)).bytes)
+    expect(text).toContain("Robert'); DROP TABLE patients;--")
+    expect(text).toContain('<script>alert(1)</script>')
+    expect(await testDb().selectFrom('patients').select('id').limit(1).execute()).toHaveLength(1)
+  })
+
   it('before signing the PDF is a draft, watermarked', async () => {
     const { id } = await loggedCase()
     const d = await pdf(as.circulator!, `/api/cases/${id}/record.pdf`)
