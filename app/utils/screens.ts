@@ -1,5 +1,5 @@
 // Screens that exist in this build; the navigation shows only these (and only those the role may open).
-export const BUILT_SCREENS: string[] = ['/']
+export const BUILT_SCREENS: string[] = ['/', '/trace', '/recalls', '/shelf', '/catalog', '/people', '/settings', '/audit']
 
 // The case's four steps (DESIGN.md); a step not built yet is shown but cannot be opened.
 export const CASE_STEPS = [
