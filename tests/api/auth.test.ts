@@ -27,8 +27,9 @@ describe('sign-in by role', () => {
   })
 
   it('the session cookie is HttpOnly, SameSite=Lax and Secure', async () => {
+    const csrf = await new Client(baseURL).csrfToken()
     const r = await fetch(`${baseURL}/api/auth/login`, {
-      method: 'POST', headers: { 'content-type': 'application/json', 'x-forwarded-for': '192.0.2.77' },
+      method: 'POST', headers: { 'content-type': 'application/json', 'x-forwarded-for': '192.0.2.77', cookie: `isthmus-csrf=${csrf}`, 'x-csrf-token': csrf },
       body: JSON.stringify({ email: f.users.admin.email, password: TEST_PASSWORD }),
     })
     const cookie = r.headers.getSetCookie().find((c) => c.startsWith('nuxt-session='))!

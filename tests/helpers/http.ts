@@ -1,9 +1,20 @@
 // A small HTTP client with its own cookie jar: one instance is one person's device.
 export interface Reply<T = any> { status: number; body: T; headers: Headers }
 
+// The CSRF double-submit (server/middleware/csrf.ts): a page gets the cookie with its first answer and
+// echoes it in a header on every write. An API client has no page, so it GETs /api/health first.
+export const CSRF_COOKIE = 'isthmus-csrf'
+export const CSRF_HEADER = 'x-csrf-token'
+const SAFE = new Set(['GET', 'HEAD', 'OPTIONS'])
+
+export interface ClientOptions {
+  /** false: never fetch or send the CSRF token (to test that the server refuses such writes). */
+  csrf?: boolean
+}
+
 export class Client {
   private cookies = new Map<string, string>()
-  constructor(readonly baseURL: string, readonly headers: Record<string, string> = {}) {}
+  constructor(readonly baseURL: string, readonly headers: Record<string, string> = {}, readonly options: ClientOptions = {}) {}
 
   cookieHeader(): string {
     return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ')
@@ -15,8 +26,19 @@ export class Client {
     return this.cookies.get(name)
   }
 
+  /** The CSRF token this device would echo; fetched with a GET when it has none yet. */
+  async csrfToken(): Promise<string> {
+    if (!this.cookies.get(CSRF_COOKIE)) await this.get('/api/health')
+    const token = this.cookies.get(CSRF_COOKIE)
+    if (!token) throw new Error('GET /api/health did not set the isthmus-csrf cookie')
+    return token
+  }
+
   async request<T = any>(method: string, url: string, body?: unknown, extra: Record<string, string> = {}): Promise<Reply<T>> {
-    const headers: Record<string, string> = { accept: 'application/json', ...this.headers, ...extra }
+    const csrf: Record<string, string> = {}
+    if (this.options.csrf !== false && !SAFE.has(method.toUpperCase())) csrf[CSRF_HEADER] = await this.csrfToken()
+    // extra comes last, so a test can still send a wrong token on purpose
+    const headers: Record<string, string> = { accept: 'application/json', ...csrf, ...this.headers, ...extra }
     if (this.cookies.size) headers.cookie = this.cookieHeader()
     let payload: BodyInit | undefined
     if (body !== undefined) {

@@ -9,6 +9,9 @@ export default defineEventHandler(async (event) => {
   const { user } = await requireRole(event, 'coordinator', 'admin')
   const { id } = await paramsWith(event, IdParams)
   const b = await readBodyWith(event, CatalogItemPatch)
+  if (!Object.values(b).some((v) => v !== undefined)) {
+    throw createError({ statusCode: 400, statusMessage: 'Validation Error', message: 'Nothing to change: give the fields to update.', data: { fields: { _: 'Nothing to change.' } } })
+  }
   return useDb().transaction().execute(async (trx) => {
     const before = await trx.selectFrom('catalog_items').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!before) throw createError({ statusCode: 404, statusMessage: 'Not Found', message: 'No such catalog item.' })
