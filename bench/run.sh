@@ -48,6 +48,7 @@ fi
 # Benchmark a private copy, so a rebuild during the run (another session, an editor) cannot swap files
 # under the running server. The stamp must not change while copying, or the copy is mixed.
 copy=bench/.cache/output
+mkdir -p bench/.cache
 for try in 1 2 3; do
   before="$(stat -c %Y "$stamp" 2>/dev/null || echo none)"
   rm -rf "$copy" && cp -a .output "$copy" 2>/dev/null || true
