@@ -15,7 +15,29 @@ const signed = (x: number) => (Number.isFinite(x) ? `${x >= 0 ? '+' : '−'}${Ma
 const n0 = (x: number) => (Number.isFinite(x) ? Math.round(x).toLocaleString('en-US') : 'n/a')
 
 function topNames(list: { name: string; share: number }[] | undefined, k = 4): string {
-  return (list ?? []).slice(0, k).map((p) => `${p.name} ${(p.share * 100).toFixed(0)} %`).join(', ')
+  return (list ?? []).slice(0, k).map((p) => `${frameName(p.name).replace(/^bench\/\.cache\/output\/server\//, 'built server: ')} ${(p.share * 100).toFixed(0)} %`).join(', ')
+}
+
+/** What the hot functions of a server profile are, in the app's terms (only those seen in this code). */
+const KNOWN: [RegExp, string][] = [
+  [/^dayInZone /, 'shared/utils/dates.ts builds a new Intl.DateTimeFormat on every call; the trace route calls it once per result row, the scan route once per request'],
+  [/^(getEnv|applyEnv|kebabCase|snakeCase|splitByCase) /, "Nitro's useRuntimeConfig(event) deep-copies the runtime config and re-reads every key from process.env on its first call in each request; server/middleware/csrf.ts (every write) and clientIp() in server/utils/http.ts (every audit row) call it"],
+  [/^writev /, 'socket writes: node-postgres writes each statement to the database, and each answer goes out'],
+  [/^\(garbage collector\)/, 'garbage collection'],
+]
+/** A profile frame as people read it: no build-copy path, native frames marked as such. */
+function frameName(name: string): string {
+  return name.replace(/ \(\(native code, GC\)\)$/, ' (native)').replace(/^(\([^)]*\)) \(native\)$/, '$1')
+    .replace(/ \((?:bench\/\.cache\/output\/server\/|\.output\/server\/)?([^)]*)\)$/, ' ($1)')
+}
+
+function annotated(prof: any, k = 5): string {
+  if (!prof?.byFunction?.length) return prof?.error ? `no profile (${prof.error})` : 'no profile'
+  return prof.byFunction.slice(0, k).map((f: any) => {
+    const note = KNOWN.find(([re]) => re.test(f.name))?.[1]
+    const name = frameName(f.name)
+    return `${name} ${(f.share * 100).toFixed(0)} %${note ? ` — ${note}` : ''}`
+  }).join('; ')
 }
 
 /** CPU ms per unit of work, and the rate the machine's cores allow at that cost. */
@@ -25,23 +47,74 @@ function budget(r: any, parts: Record<string, number | undefined>) {
   return { total, ceiling: total > 0 ? (cores * 1000) / total : NaN, text: Object.entries(parts).map(([k, v]) => `${k} ${ms(v, 2)}`).join(' + ') }
 }
 
-/** Why the API costs what it costs, from measured CPU per request and the server's profile. */
-function apiWhy(r: any, api: any, pg: any, prof: any, kind: 'search' | 'ingest'): string {
-  const parts: string[] = []
+function cpuSentence(r: any, pg: any, api: any, unit: string): string | null {
   const pc = pg?.cpuMsPerTxn
   const ac = api?.cpuMsPerRequest
-  if (pc && ac) {
-    const b0 = budget(r, { PostgreSQL: pc.postgres, pgbench: pc.pgbench })
-    const b1 = budget(r, { PostgreSQL: ac.postgres, 'app server': ac.server, autocannon: ac.autocannon })
-    parts.push(`CPU per ${kind === 'ingest' ? 'scan' : 'search'}: pgbench path ${b0.text} = ${ms(b0.total, 2)}, so ${r.machine.cores} cores allow ≈ ${n0(b0.ceiling)}/s (measured ${n0(pg.tps)}); API path ${b1.text} = ${ms(b1.total, 2)}, so ≈ ${n0(b1.ceiling)}/s (measured ${n0(api.rps)}). ` +
-      `Database, app and load generator share the same ${r.machine.cores} cores, so the app server's ${ms(ac.server, 2)} per request comes straight off the rate`)
+  if (!pc || !ac) return null
+  const b0 = budget(r, { PostgreSQL: pc.postgres, pgbench: pc.pgbench })
+  const b1 = budget(r, { PostgreSQL: ac.postgres, 'app server': ac.server, autocannon: ac.autocannon })
+  return `CPU per ${unit}: through pgbench ${b0.text} = ${ms(b0.total, 2)}, which ${r.machine.cores} cores could serve ≈ ${n0(b0.ceiling)} times a second (measured ${n0(pg.tps)}); through the API ${b1.text} = ${ms(b1.total, 2)}, ≈ ${n0(b1.ceiling)}/s (measured ${n0(api.rps)}). ` +
+    `Database, app server and load generator share the same ${r.machine.cores} cores, so the server's ${ms(ac.server, 2)} per request comes straight off the rate: the API needs ${(b1.total / b0.total).toFixed(1)}× the CPU of the bare SQL.`
+}
+
+/** With clients sending back to back, latency ≈ clients ÷ rate: a latency goal is a rate goal. */
+function closedLoop(clients: number, goalMs: number, pg: any, what: string): string {
+  const need = (clients * 1000) / goalMs
+  const real = what === 'scans' ? `${clients} devices scanning without a pause is also far more than ${clients} theatres, where a device scans a pack every minute or so` : `${clients} people searching without a pause is also far more than a hospital group's coordinators do`
+  return `With ${clients} clients sending back to back, the mean latency is about ${clients} ÷ rate (Little's law), so a p95 of ${goalMs} ms needs well over ${n0(need)} ${what}/s; PostgreSQL alone managed ${n0(pg.tps)}/s here, with p95 ${ms(pg.latencyMs.p95, 1)}. ${real}.`
+}
+
+/** One explanation per area, for the areas with a missed target. */
+export function findings(r: any, targets: Target[]): { area: string; misses: string[]; points: string[] }[] {
+  const miss = (id: string) => targets.find((t) => t.id === id && !t.pass)
+  const out: { area: string; misses: string[]; points: string[] }[] = []
+  const s = r.lotSearch.find((l: any) => l.clients === 10) ?? r.lotSearch[r.lotSearch.length - 1]
+  const ids = (...x: string[]) => x.filter((i) => miss(i)).map((i) => miss(i)!.what)
+  if (miss('search-p50-ratio') || miss('search-p95')) {
+    const pts = [cpuSentence(r, s.pgbench, s.api, 'search')].filter(Boolean) as string[]
+    pts.push(`Where the server's CPU goes in a search (V8 profile, self time): ${annotated(r.serverProfile?.search)}.`)
+    if (miss('search-p95')) pts.push(closedLoop(s.clients, 30, s.pgbench, 'searches'))
+    const pl = r.heaviestSearchPlan
+    if (pl) pts.push(`The SQL itself visits every row of the lot — count(*) OVER () needs them all before LIMIT 50 — with an index lookup into cases, patients and users per row, then sorts: the heaviest lot in the set (${n0(pl.rows)} rows) takes ${ms(pl.executionMs, 1)} to execute and ${ms(pl.planningMs, 1)} to plan on a warm cache.`)
+    const one = r.lotSearch.find((l: any) => l.clients === 1)
+    if (one) pts.push(`One client at a time: API p50 ${ms(one.api.latencyMs.p50, 1)} / p95 ${ms(one.api.latencyMs.p95, 1)} against pgbench ${ms(one.pgbench.latencyMs.p50, 1)} / ${ms(one.pgbench.latencyMs.p95, 1)}.`)
+    out.push({ area: 'Lot search', misses: ids('search-p50-ratio', 'search-p95'), points: pts })
   }
-  if (kind === 'ingest') {
-    parts.push(`each scan is 20 statements sent one after another (4 reads, then a 14-statement transaction that holds a pool connection and the case row lock across every round trip); the pool has ${r.machine.serverPool.replace('DATABASE_POOL_MAX=', '')} connections for ${api.connections} clients, so requests also queue for a connection`)
+  const ing = r.ingest
+  if (miss('ingest-rate') || miss('ingest-p95') || miss('ingest-errors')) {
+    const pts = [cpuSentence(r, ing.pgbench, ing.api, 'scan')].filter(Boolean) as string[]
+    pts.push(`Where the server's CPU goes in a scan (V8 profile, self time): ${annotated(r.serverProfile?.ingest)}.`)
+    pts.push(`Each scan is 20 statements sent one after another (server/api/cases/[id]/items/index.post.ts: 4 reads, then a transaction of 14 that holds a pool connection and the case's row lock across every round trip); the pool has ${r.machine.serverPool.replace('DATABASE_POOL_MAX=', '')} connections for ${ing.clients} clients, so requests also wait for a connection.`)
+    if (miss('ingest-p95')) pts.push(closedLoop(ing.clients, 50, ing.pgbench, 'scans'))
+    const dg = ing.diagnostics ?? {}
+    const d1 = dg['lock-shelf-line-only']
+    const d2 = dg['lock-shelf-line-only-no-notify']
+    if (d1 || d2) {
+      pts.push(`Two choices in the transaction cost PostgreSQL itself (diagnostic pgbench variants, taking turns with the unchanged script; on a busy machine these differences are noisy): ` +
+        (d1 ? `shelfLineFor in server/queries/items.ts takes FOR UPDATE over a join, which also locks the facility's stock_locations row, so all scans of one facility queue on it until commit — locking only the shelf line changed the rate by ${signed(d1.tps / (d1.asIs?.tps ?? ing.pgbench.tps) - 1)}; ` : '') +
+        (d2 ? `notifyLive in server/utils/live.ts calls pg_notify inside the transaction, and PostgreSQL holds one lock for every notifying transaction through its commit, so those commits (WAL flush included) go one at a time — without it as well: ${signed(d2.tps / (d2.asIs?.tps ?? ing.pgbench.tps) - 1)}.` : ''))
+    }
+    if (miss('ingest-errors')) pts.push(`Answers other than 2xx: ${JSON.stringify(ing.api.statuses)}.`)
+    out.push({ area: 'Scan ingest', misses: ids('ingest-rate', 'ingest-p95', 'ingest-errors'), points: pts })
   }
-  if (prof?.byFunction?.length) parts.push(`server profile under this load (self time): ${topNames(prof.byFunction, 5)}`)
-  if (pg && api.latencyMs?.p50 && pg.latencyMs?.p50) parts.push(`the API adds ${ms(api.latencyMs.p50 - pg.latencyMs.p50, 2)} at the median over the same SQL from pgbench`)
-  return parts.join('; ') + '.'
+  const pdf = r.pdf
+  if (miss('pdf-record') || miss('pdf-card')) {
+    out.push({
+      area: 'PDF', misses: ids('pdf-record', 'pdf-card'), points: [
+        `An empty page with the same three fonts, saved, already takes ${ms(pdf.fontsOnly.medianMs)} (CPU ${ms(pdf.fontsOnly.cpuMedianMs)}): server/utils/pdf/fonts.ts embeds whole Inter TTFs (subset: false) in every document, and pdf-lib deflates them again (pako) on every save — hence ${kb(pdf.card.bytes)} for a wallet card and ${kb(pdf.record.bytes)} for the record.`,
+        `CPU profile of the record (self time): ${topNames(pdf.recordProfile?.byPackage, 5)}; top functions ${topNames(pdf.recordProfile?.byFunction, 4)}. fontkit's OpenType layout (GSUB/GPOS lookups: coverage and class tables) runs for every string pdf-lib draws or measures in a custom font; the record draws a few hundred.`,
+      ],
+    })
+  }
+  const sizing = r.client.pages.filter((p: any) => !p.path.endsWith('/implants'))
+  if (miss('tti-sizing') || miss('js-scan')) {
+    const scan = r.client.pages.find((p: any) => p.path.endsWith('/implants'))
+    const pts = sizing.map((p: any) => `${p.path.replace(/\/cases\/\d+/, '/cases/[id]')}: ${kb(p.js.gzipBytes)} of its own JS (gzip) in ${p.js.files} files — largest ${chunkList(p.js.chunks, 3)}; ${ms(p.hydratedMedianMs, 0)} cold, ${ms(p.warmHydratedMedianMs, 0)} with a warm cache.`)
+    pts.push('At 4× CPU slowdown most of the cold time is parsing, compiling and running that JS (and the SSR payload) before the app mounts; the warm-cache loads, where the compiled code is cached, show how much.')
+    if (scan) pts.push(`The scan page (within its JS target): ${chunkList(scan.js.chunks, 3)} — the barcode decoder is fetched on every visit, before anyone opens the camera.`)
+    out.push({ area: 'Client', misses: ids('tti-sizing', 'js-scan'), points: pts })
+  }
+  return out
 }
 
 export function evaluateTargets(r: any): Target[] {
@@ -88,7 +161,7 @@ export function evaluateTargets(r: any): Target[] {
     },
     {
       id: 'js-scan', what: 'Scan page (/cases/[id]/implants) JS, gzip', target: '≤ 250 KB',
-      measured: `${kb(scan.js.gzipBytes)} in ${scan.js.files} files (${kb(scan.js.eagerGzipBytes ?? scan.js.gzipBytes)} for the route, ${kb(scan.js.lazyGzipBytes ?? 0)} it imports itself on mount); with the other steps' chunks Nuxt prefetches afterwards ${kb(scan.js.gzipBytes + (scan.prefetched?.gzipBytes ?? 0))}`,
+      measured: `${kb(scan.js.gzipBytes)} in ${scan.js.files} files (${kb(scan.js.eagerGzipBytes ?? scan.js.gzipBytes)} for the route, ${kb(scan.js.lazyGzipBytes ?? 0)} it imports itself as it loads); with the other steps' chunks Nuxt prefetches afterwards ${kb(scan.js.gzipBytes + (scan.prefetched?.gzipBytes ?? 0))}`,
       pass: scan.js.gzipBytes <= 250 * 1024,
     },
     {
@@ -96,33 +169,8 @@ export function evaluateTargets(r: any): Target[] {
       measured: sizing.map((p: any) => `${p.path.replace(/\/cases\/\d+/, '/cases/[id]')} ${ms(p.hydratedMedianMs, 0)}`).join(', '), pass: worstSizing <= 1500,
     },
   ]
-  // the reason beside every miss, from what was measured
-  for (const x of t) {
-    if (x.pass) continue
-    switch (x.id) {
-      case 'search-p50-ratio': case 'search-p95':
-        x.why = apiWhy(r, s.api, s.pgbench, prof.search, 'search')
-        if (x.id === 'search-p95' && s.pgbench.latencyMs.p95 > 30) x.why += ` PostgreSQL alone has p95 ${ms(s.pgbench.latencyMs.p95, 1)} for this SQL here: the query itself (a nested loop over every row of the lot for count(*) OVER ()) is over budget before the app adds anything.`
-        break
-      case 'ingest-rate': case 'ingest-p95':
-        x.why = apiWhy(r, ing.api, ing.pgbench, prof.ingest, 'ingest')
-        if (x.id === 'ingest-p95' && ing.pgbench.latencyMs.p95 > 50) x.why += ` PostgreSQL alone has p95 ${ms(ing.pgbench.latencyMs.p95, 1)} at ${ing.clients} clients on this machine (commits wait for the WAL flush; fsync=${r.machine.postgresSettings.fsync}).`
-        break
-      case 'ingest-errors':
-        x.why = `answers other than 2xx: ${JSON.stringify(ing.api.statuses)}; results ${JSON.stringify(ing.api.results ?? {})}.`
-        break
-      case 'pdf-record': case 'pdf-card':
-        x.why = `an empty page with the same fonts embedded and saved already takes ${ms(pdf.fontsOnly.medianMs)} (CPU ${ms(pdf.fontsOnly.cpuMedianMs)}): server/utils/pdf/fonts.ts embeds three whole Inter TTFs (subset: false) in every document, and pdf-lib deflates them again (pako) on every save — hence ${kb(x.id === 'pdf-card' ? pdf.card.bytes : pdf.record.bytes)} for ${x.id === 'pdf-card' ? 'a wallet card' : 'the record'}. ` +
-          `CPU profile of the record (self time): ${topNames(pdf.recordProfile?.byPackage, 5)}; top functions: ${topNames(pdf.recordProfile?.byFunction, 4)} — fontkit's OpenType layout (GSUB/GPOS lookups) runs for every string pdf-lib draws or measures with a custom font.`
-        break
-      case 'js-scan':
-        x.why = `largest chunks: ${chunkList(scan.js.chunks, 5)}; the barcode decoder is imported when the page mounts, before anyone opens the camera.`
-        break
-      case 'tti-sizing':
-        x.why = sizing.map((p: any) => `${p.path.replace(/\/cases\/\d+/, '/cases/[id]')}: ${kb(p.js.gzipBytes)} own JS gzip in ${p.js.files} files (largest ${chunkList(p.js.chunks, 3)}), warm-cache median ${ms(p.warmHydratedMedianMs, 0)}`).join('; ') + ' — at 4× slowdown, parsing and running that much JS before mount is most of the time; with a warm cache (no download, cached compiled code) it is far less.'
-        break
-    }
-  }
+  // the reasons live in findings(), one per area; each miss points there
+  for (const x of t) if (!x.pass) x.why = 'see findings'
   return t
 }
 
@@ -153,14 +201,17 @@ export function renderMarkdown(r: any): string {
   L.push(row(['---', '---', '---', '---']))
   for (const t of r.targets as Target[]) L.push(row([t.pass ? 'pass' : '**FAIL**', t.what, t.target, t.measured]))
   L.push('')
-  const misses = (r.targets as Target[]).filter((t) => !t.pass && t.why)
-  if (misses.length) {
-    L.push('### Why the missed targets miss')
+  const fs = findings(r, r.targets)
+  if (fs.length) {
+    L.push('## What is slow, and why')
     L.push('')
-    for (const t of misses) L.push(`- **${t.what}**: ${t.why}`)
-    L.push('')
+    for (const f of fs) {
+      L.push(`### ${f.area}${f.misses.length ? ` — misses: ${f.misses.map((w) => w.replace(/^(Lot search|Scan ingest): /, '')).join('; ')}` : ''}`)
+      L.push('')
+      for (const p of f.points) L.push(`- ${p}`)
+      L.push('')
+    }
   }
-
   L.push('## Machine')
   L.push('')
   L.push(`- CPU: ${m.cpu}, ${m.cores} cores; memory ${m.memoryGiB} GiB; ${m.os}`)
@@ -169,7 +220,7 @@ export function renderMarkdown(r: any): string {
   L.push(`- App server: the built Nuxt server (\`node .output/server/index.mjs\`), one process, ${m.serverPool}; everything on 127.0.0.1`)
   const busy = Object.entries(r.load ?? {}).filter(([, v]: any) => v.foreignCores != null)
   if (busy.length) {
-    L.push(`- Other work on the machine during each part (mean cores used by processes outside the benchmark and PostgreSQL): ` +
+    L.push(`- Other work on the machine during each part (mean cores used by processes outside the benchmark, PostgreSQL backends of other databases included; other sessions share this machine): ` +
       busy.map(([k, v]: any) => `${k} ${v.foreignCores}${v.busiest.length ? ` (${v.busiest.join(', ')})` : ''}`).join('; ') +
       '. Above ~0.2 cores the figures of that part are pessimistic.')
   }
@@ -188,7 +239,7 @@ export function renderMarkdown(r: any): string {
 
   L.push('## Lot search — GET /api/trace?lot=…')
   L.push('')
-  L.push('pgbench runs the statements the API sends for one search (the user check of requireRole, the search SQL produced by server/queries/trace.ts, the PHI-access insert), captured from the app\'s own query code at run time, with the extended protocol like the node-postgres driver. autocannon sends the same searches to the built server.')
+  L.push(`pgbench runs the statements the API sends for one search (the user check of requireRole, the search SQL produced by server/queries/trace.ts, the PHI-access insert), captured from the app's own query code at run time, with the extended protocol like the node-postgres driver. autocannon sends the same searches to the built server. The two take turns (${r.settings.rounds} rounds of ${Math.round(r.settings.seconds / r.settings.rounds)} s each per side after a ${r.settings.warmSeconds} s warm-up) and each side's rounds are pooled, so both meet the same spells of other load.`)
   L.push('')
   L.push(row(['Clients', 'Path', 'Rate', 'p50', 'p95', 'p99', 'Errors', 'API ÷ pgbench p50', 'CPU per search: PostgreSQL / client / app server']))
   L.push(row(['---', '---', '---', '---', '---', '---', '---', '---', '---']))
@@ -210,7 +261,7 @@ export function renderMarkdown(r: any): string {
   const ing = r.ingest
   L.push(`## Scan ingest — POST /api/cases/:id/items, ${ing.clients} clients`)
   L.push('')
-  L.push(`Each request is a wedge scan of a nail with its own client key and serial into one of ${r.settings.ingestCases ?? 60} open cases (one client per case at a time, each case with its own lot on its own shelf line, so no two clients wait on one row), and lands as result "check" (the aiming-guide reminder) with the full write: case item, shelf decrement, stock movement, audit row, scan event, live notification. pgbench runs the same 20 statements (checked against PostgreSQL's statement log of a real request), building the per-request strings in SQL because pgbench variables are numbers.`)
+  L.push(`Taking turns with pgbench like the search (${r.settings.rounds} rounds of ${Math.round(r.settings.seconds / r.settings.rounds)} s per side). Each request is a wedge scan of a nail with its own client key and serial into one of ${r.settings.ingestCases ?? 60} open cases (one client per case at a time, each case with its own lot on its own shelf line, so no two clients wait on one row), and lands as result "check" (the aiming-guide reminder) with the full write: case item, shelf decrement, stock movement, audit row, scan event, live notification. pgbench runs the same 20 statements (checked against PostgreSQL's statement log of a real request), building the per-request strings in SQL because pgbench variables are numbers.`)
   L.push('')
   L.push(row(['Path', 'Rate', 'p50', 'p95', 'p99', 'Errors', 'CPU per scan: PostgreSQL / client / app server']))
   L.push(row(['---', '---', '---', '---', '---', '---', '---']))
@@ -220,16 +271,18 @@ export function renderMarkdown(r: any): string {
   L.push('')
   const dg = Object.entries(ing.diagnostics ?? {}) as [string, any][]
   if (dg.length) {
-    L.push(`Diagnostics (pgbench only, ${dg[0]![1].seconds} s each, not targets): the same transaction changed in one respect, to show what two choices in the app's SQL cost PostgreSQL.`)
+    L.push(`Diagnostics (pgbench only, not targets): the same transaction changed in one respect, taking turns with the unchanged one (${dg[0]![1].rounds ?? 1} rounds of ${Math.round(dg[0]![1].seconds / (dg[0]![1].rounds ?? 1))} s each), to show what two choices in the app's SQL cost PostgreSQL.`)
     L.push('')
-    L.push(row(['Variant', 'Rate', 'p50', 'p95', 'vs. as the app does it']))
-    L.push(row(['---', '---', '---', '---', '---']))
-    L.push(row(['as the app does it (above)', `${n0(ing.pgbench.tps)} tps`, ms(ing.pgbench.latencyMs.p50, 1), ms(ing.pgbench.latencyMs.p95, 1), '']))
+    L.push(row(['Variant', 'Rate', 'p50', 'p95', 'Unchanged, same turns', 'Change']))
+    L.push(row(['---', '---', '---', '---', '---', '---']))
     const words: Record<string, string> = {
       'lock-shelf-line-only': '`FOR UPDATE OF "sl"` in the shelf query (server/queries/items.ts shelfLineFor locks every joined row, so the facility\'s stock_locations row too: all scans of a facility queue on it until commit)',
       'lock-shelf-line-only-no-notify': 'that, and no `pg_notify` in the transaction (server/utils/live.ts notifyLive: PostgreSQL takes one lock for all notifying transactions and holds it through commit, so their commits — WAL flush included — go one at a time)',
     }
-    for (const [k, d] of dg) L.push(row([words[k] ?? k, `${n0(d.tps)} tps`, ms(d.latencyMs.p50, 1), ms(d.latencyMs.p95, 1), signed(d.tps / ing.pgbench.tps - 1) + ' rate']))
+    for (const [k, d] of dg) {
+      const base = d.asIs ?? ing.pgbench
+      L.push(row([words[k] ?? k, `${n0(d.tps)} tps`, ms(d.latencyMs.p50, 1), ms(d.latencyMs.p95, 1), `${n0(base.tps)} tps, p95 ${ms(base.latencyMs.p95, 1)}`, signed(d.tps / base.tps - 1) + ' rate']))
+    }
     L.push('')
   }
   L.push(`API answers: ${Object.entries(ing.api.results ?? {}).map(([k, v]) => `${k} ${n0(v as number)}`).join(', ')}; ${n0(ing.rowsWritten)} case items written for ${n0(ing.api.ok)} 2xx answers counted in the window (the rest: requests still in flight when the load generator stopped, which the server finished)${ing.api.notes?.length ? `; ${ing.api.notes.join('; ')}` : ''}.`)
@@ -249,7 +302,7 @@ export function renderMarkdown(r: any): string {
   const pdf = r.pdf
   L.push('## PDF')
   L.push('')
-  L.push(`In-process (tsx, server/utils/pdf/record-pdf.ts and implant-card.ts, shared/utils/record.ts), from a snapshot built in code: a signed long-nail record with ${pdf.implants} implants (${pdf.pages} pages), and the nail's patient card. ${pdf.record.runs} timed runs after warm-up; wall time and, beside it, CPU time.`)
+  L.push(`In-process (tsx, server/utils/pdf/record-pdf.ts and implant-card.ts, shared/utils/record.ts), from a snapshot built in code: a signed long-nail record with ${pdf.implants} implants (${pdf.pages} pages), and the nail's patient card. ${pdf.record.runs} timed runs after warm-up; wall time and, beside it, CPU time of the process (V8's garbage-collector and compiler threads count too, so it can exceed the wall time).`)
   L.push('')
   L.push(row(['Document', 'Median', 'p95', 'Min', 'Cold (first)', 'CPU median', 'Size']))
   L.push(row(['---', '---', '---', '---', '---', '---', '---']))

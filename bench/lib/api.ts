@@ -20,6 +20,36 @@ export interface ApiResult {
   notes?: string[]
   /** filled in by the harness: CPU ms per request of PostgreSQL (this database), the server, autocannon */
   cpuMsPerRequest?: { postgres: number; server: number; autocannon: number }
+  /** per-request latencies (ms), for pooling rounds; not written to the report */
+  samples?: Float64Array
+  rounds?: number
+}
+
+const stats = (s: Float64Array) => ({
+  mean: s.reduce((a, b) => a + b, 0) / (s.length || 1), p50: percentile(s, 50), p95: percentile(s, 95), p99: percentile(s, 99), max: s[s.length - 1] ?? NaN,
+})
+
+/** Several rounds as one: latencies pooled, counts summed, rate = 2xx answers over all seconds. */
+export function poolApi(rs: ApiResult[]): ApiResult {
+  const all = Float64Array.from(rs.flatMap((r) => [...(r.samples ?? [])])).sort()
+  const sum = (f: (r: ApiResult) => number) => rs.reduce((a, r) => a + f(r), 0)
+  const seconds = sum((r) => r.seconds)
+  const requests = sum((r) => r.requests)
+  const statuses: Record<string, number> = {}
+  const results: Record<string, number> = {}
+  for (const r of rs) {
+    for (const [k, v] of Object.entries(r.statuses)) statuses[k] = (statuses[k] ?? 0) + v
+    for (const [k, v] of Object.entries(r.results ?? {})) results[k] = (results[k] ?? 0) + v
+  }
+  const w = (f: (r: ApiResult) => number | undefined) => (rs.every((r) => f(r) != null) ? sum((r) => f(r)! * r.requests) / (requests || 1) : undefined)
+  const cpu = rs.every((r) => r.cpuMsPerRequest) ? { postgres: w((r) => r.cpuMsPerRequest!.postgres)!, server: w((r) => r.cpuMsPerRequest!.server)!, autocannon: w((r) => r.cpuMsPerRequest!.autocannon)! } : undefined
+  const notes = rs.flatMap((r) => r.notes ?? [])
+  return {
+    connections: rs[0]!.connections, seconds, requests, ok: sum((r) => r.ok), rps: sum((r) => r.ok) / seconds,
+    non2xx: sum((r) => r.non2xx), errors: sum((r) => r.errors), timeouts: sum((r) => r.timeouts), statuses,
+    latencyMs: stats(all), serverCpuMsPerRequest: w((r) => r.serverCpuMsPerRequest ?? undefined) ?? null,
+    ...(Object.keys(results).length ? { results } : {}), ...(notes.length ? { notes } : {}), cpuMsPerRequest: cpu, samples: all, rounds: rs.length,
+  }
 }
 
 export interface RunningServer { url: string; pid: number; child: ChildProcess; stop: () => Promise<void>; output: () => string; inspector: string | null }
@@ -115,6 +145,7 @@ async function cannon(o: {
   const r: any = await inst
   const cpu1 = o.serverPid ? cpuMs(o.serverPid) : null
   const sorted = Float64Array.from(lat).sort()
+  const samples = sorted
   const ok = Object.entries(statuses).filter(([s]) => s.startsWith('2')).reduce((a, [, n]) => a + n, 0)
   const seconds = Number(r.duration) || o.seconds
   return {
@@ -126,6 +157,7 @@ async function cannon(o: {
       p50: percentile(sorted, 50), p95: percentile(sorted, 95), p99: percentile(sorted, 99), max: sorted[sorted.length - 1] ?? NaN,
     },
     serverCpuMsPerRequest: cpu0 != null && cpu1 != null && lat.length ? (cpu1 - cpu0) / lat.length : null,
+    samples,
   }
 }
 

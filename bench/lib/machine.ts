@@ -39,8 +39,8 @@ function procTable(): Map<number, { ppid: number; ticks: number; comm: string }>
 
 /**
  * Samples, every few seconds, how many cores processes outside this benchmark used: not this process
- * or its children (server, pgbench, psql, chromium), and not PostgreSQL (it serves both). Each part
- * reads the mean over its own span.
+ * or its children (server, pgbench, psql, chromium). PostgreSQL serves both: its backends for other
+ * databases count as other work, its shared processes as neither. Each part reads the mean over its span.
  */
 export class LoadSampler {
   private last = procTable()
@@ -48,7 +48,7 @@ export class LoadSampler {
   private samples: { at: number; foreignCores: number; top: string[] }[] = []
   private timer: NodeJS.Timeout
 
-  constructor(intervalMs = 3000) {
+  constructor(private db: string, intervalMs = 3000) {
     this.timer = setInterval(() => this.sample(), intervalMs)
     this.timer.unref()
   }
@@ -70,9 +70,18 @@ export class LoadSampler {
     for (const [pid, p] of now) {
       const before = this.last.get(pid)
       const d = p.ticks - (before?.ticks ?? p.ticks)
-      if (d <= 0 || p.comm === 'postgres' || this.ours(now, pid)) continue
+      if (d <= 0 || this.ours(now, pid)) continue
+      let name = p.comm
+      if (p.comm === 'postgres') {
+        // a backend's title is "postgres: user database host …"; shared processes have other titles
+        let title = ''
+        try { title = readFileSync(`/proc/${pid}/cmdline`, 'utf8').replace(/\0/g, ' ') } catch { continue }
+        const db = title.match(/^postgres: \S+ (\S+) (?:\d|\[local\])/)?.[1]
+        if (!db || db === this.db) continue
+        name = 'postgres (other databases)'
+      }
       foreign += d
-      users.set(p.comm, (users.get(p.comm) ?? 0) + d)
+      users.set(name, (users.get(name) ?? 0) + d)
     }
     const cores = foreign / 100 / secs
     const top = [...users].sort((a, b) => b[1] - a[1]).slice(0, 3).filter(([, t]) => t / 100 / secs > 0.05)
@@ -87,7 +96,7 @@ export class LoadSampler {
     const s = this.samples.filter((x) => x.at > from && x.at <= to + 3000)
     if (!s.length) return { foreignCores: null as number | null, busiest: [] as string[], loadAvg: os.loadavg()[0]! }
     const busiest = new Map<string, number>()
-    for (const x of s) for (const t of x.top) { const [c] = t.split(' '); busiest.set(c!, (busiest.get(c!) ?? 0) + 1) }
+    for (const x of s) for (const t of x.top) { const c = t.replace(/ [\d.]+$/, ''); busiest.set(c, (busiest.get(c) ?? 0) + 1) }
     return {
       foreignCores: Number((s.reduce((a, x) => a + x.foreignCores, 0) / s.length).toFixed(2)),
       busiest: [...busiest].sort((a, b) => b[1] - a[1]).slice(0, 3).map(([c]) => c),

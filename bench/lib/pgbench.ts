@@ -12,6 +12,25 @@ export interface PgbenchResult {
   latencyMs: { mean: number; p50: number; p95: number; p99: number; max: number }
   /** filled in by the harness: CPU ms per transaction of PostgreSQL (this database) and of pgbench */
   cpuMsPerTxn?: { postgres: number; pgbench: number }
+  /** per-transaction latencies (ms), for pooling rounds; not written to the report */
+  samples?: Float64Array
+  rounds?: number
+}
+
+const stats = (s: Float64Array) => ({
+  mean: s.reduce((a, b) => a + b, 0) / (s.length || 1), p50: percentile(s, 50), p95: percentile(s, 95), p99: percentile(s, 99), max: s[s.length - 1] ?? NaN,
+})
+
+/** Several rounds of the same run as one: latencies pooled, rate = all transactions over all seconds. */
+export function poolPgbench(rs: PgbenchResult[]): PgbenchResult {
+  const all = Float64Array.from(rs.flatMap((r) => [...(r.samples ?? [])])).sort()
+  const secs = rs.reduce((a, r) => a + r.seconds, 0)
+  const txns = rs.reduce((a, r) => a + r.transactions, 0)
+  const cpu = rs.every((r) => r.cpuMsPerTxn) ? {
+    postgres: rs.reduce((a, r) => a + r.cpuMsPerTxn!.postgres * r.transactions, 0) / txns,
+    pgbench: rs.reduce((a, r) => a + r.cpuMsPerTxn!.pgbench * r.transactions, 0) / txns,
+  } : undefined
+  return { ...rs[0]!, seconds: secs, tps: txns / secs, transactions: txns, failed: rs.reduce((a, r) => a + r.failed, 0), latencyMs: stats(all), cpuMsPerTxn: cpu, rounds: rs.length, samples: all }
 }
 
 /** One pgbench run; latencies come from its per-transaction log (--log), not from its averages. */
@@ -40,11 +59,9 @@ export async function pgbench(db: string, name: string, scripts: string[], o: { 
   }
   if (!lat.length) throw new Error(`pgbench ${name} logged no transactions:\n${out}`)
   const s = Float64Array.from(lat).sort()
-  const mean = lat.reduce((a, b) => a + b, 0) / lat.length
   return {
     clients: o.clients, threads: o.threads, seconds: o.seconds, protocol: 'extended',
-    tps, transactions: lat.length, failed,
-    latencyMs: { mean, p50: percentile(s, 50), p95: percentile(s, 95), p99: percentile(s, 99), max: s[s.length - 1]! },
+    tps, transactions: lat.length, failed, latencyMs: stats(s), samples: s,
   }
 }
 
