@@ -1,5 +1,6 @@
 // The invented implant system of the demo scenario. GTINs are on GS1 prefix 952, which GS1 reserves for
 // demonstrations and examples (GS1 prefix list, see standards.md A1.8). Sizes follow trade.md §1.3/§1.7/§1.8.
+import { gtinCheckDigit } from '../shared/utils/udi'
 import type { ItemKind } from './types'
 
 export interface DemoItem {
@@ -18,9 +19,7 @@ export interface DemoItem {
 }
 
 function gtin14(body13: string): string {
-  let sum = 0
-  for (let i = 0; i < 13; i++) sum += Number(body13[12 - i]) * (i % 2 === 0 ? 3 : 1)
-  return body13 + String((10 - (sum % 10)) % 10)
+  return body13 + String(gtinCheckDigit(body13))
 }
 
 export const DEMO_MAKER = {

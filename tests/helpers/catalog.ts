@@ -1,13 +1,12 @@
 // A small shelf of invented implants for one test facility: GTINs on the demo prefix 952, random so
 // that test files never collide on the catalog's unique GTIN.
 import type { Kysely } from 'kysely'
+import { gtinCheckDigit } from '../../shared/utils/udi'
 import type { Database, ItemKind } from '../../db/types'
 import { testDb, type TestFacility } from './db'
 
 export function gtinCheck(body13: string): string {
-  let sum = 0
-  for (let i = 0; i < 13; i++) sum += Number(body13[12 - i]) * (i % 2 === 0 ? 3 : 1)
-  return String((10 - (sum % 10)) % 10)
+  return String(gtinCheckDigit(body13))
 }
 
 export function randomGtin(): string {
