@@ -29,12 +29,39 @@ export async function readBodyWith<S extends z.ZodType>(event: H3Event, schema: 
   } catch {
     throw createError({ statusCode: 400, statusMessage: 'Bad Request', message: 'The request body is not valid JSON.' })
   }
+  rejectNul(raw)
   const r = await schema.safeParseAsync(raw ?? {})
   if (!r.success) badRequest(r.error.issues)
   return r.data
 }
 
+/** The path of the first string holding a NUL character, or null. */
+export function nulPath(v: unknown, path: string[] = []): string[] | null {
+  if (typeof v === 'string') return v.includes('\u0000') ? path : null
+  if (Array.isArray(v)) {
+    for (let i = 0; i < v.length; i++) { const p = nulPath(v[i], [...path, String(i)]); if (p) return p }
+  } else if (v && typeof v === 'object') {
+    for (const [k, x] of Object.entries(v)) { const p = nulPath(x, [...path, k]); if (p) return p }
+  }
+  return null
+}
+
+// PostgreSQL text cannot hold NUL, and no scanner or keyboard sends one: refuse it up front
+// instead of letting the insert fail as a 500.
+function rejectNul(raw: unknown): void {
+  const p = nulPath(raw)
+  if (!p) return
+  const key = p.join('.') || '_'
+  throw createError({
+    statusCode: 400,
+    statusMessage: 'Validation Error',
+    message: `Check this field: ${key} — it holds a NUL character (\\0); re-scan or retype it.`,
+    data: { fields: { [key]: 'Holds a NUL character; re-scan or retype it.' } },
+  })
+}
+
 export async function queryWith<S extends z.ZodType>(event: H3Event, schema: S): Promise<z.output<S>> {
+  rejectNul(getQuery(event))
   const r = await schema.safeParseAsync(getQuery(event))
   if (!r.success) badRequest(r.error.issues)
   return r.data
@@ -64,6 +91,7 @@ export function mapDbError(e: unknown, what = 'record'): never {
   if (code === '23505') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} already exists.` })
   if (code === '23503') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} refers to something that does not exist.` })
   if (code === '23514') throw createError({ statusCode: 400, statusMessage: 'Bad Request', message: `This ${what} breaks a rule of the record.` })
+  if (code === '22021' || code === '22P05') throw createError({ statusCode: 400, statusMessage: 'Bad Request', message: `This ${what} holds characters the record cannot store; retype it.` })
   if (code === '23001' || code === 'P0001') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} is locked and cannot be changed.` })
   throw e
 }
