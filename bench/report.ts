@@ -101,8 +101,8 @@ export function findings(r: any, targets: Target[]): { area: string; misses: str
   if (miss('pdf-record') || miss('pdf-card')) {
     out.push({
       area: 'PDF', misses: ids('pdf-record', 'pdf-card'), points: [
-        `An empty page with the same three fonts, saved, already takes ${ms(pdf.fontsOnly.medianMs)} (CPU ${ms(pdf.fontsOnly.cpuMedianMs)}): server/utils/pdf/fonts.ts embeds whole Inter TTFs (subset: false) in every document, and pdf-lib deflates them again (pako) on every save — hence ${kb(pdf.card.bytes)} for a wallet card and ${kb(pdf.record.bytes)} for the record.`,
-        `CPU profile of the record (self time): ${topNames(pdf.recordProfile?.byPackage, 5)}; top functions ${topNames(pdf.recordProfile?.byFunction, 4)}. fontkit's OpenType layout (GSUB/GPOS lookups: coverage and class tables) runs for every string pdf-lib draws or measures in a custom font; the record draws a few hundred.`,
+        `An empty page with the same three fonts (subset per document by server/utils/pdf/fonts.ts), saved, takes ${ms(pdf.fontsOnly.medianMs)} (CPU ${ms(pdf.fontsOnly.cpuMedianMs)}); the wallet card is ${kb(pdf.card.bytes)} and the record ${kb(pdf.record.bytes)}.`,
+        `CPU profile of the record (self time): ${topNames(pdf.recordProfile?.byPackage, 5)}; top functions ${topNames(pdf.recordProfile?.byFunction, 4)}.`,
       ],
     })
   }
