@@ -4,6 +4,10 @@
  */
 import { readFileSync, writeFileSync } from 'node:fs'
 import path from 'node:path'
+import { INGEST_SCRIPT } from './lib/pgbench'
+
+// the statements of one scan, counted from the pgbench script that mirrors the route
+const INGEST_STATEMENTS = INGEST_SCRIPT.split('\n').filter((l) => /^(select|insert|update|with)\b/i.test(l)).length
 
 export interface Target { id: string; what: string; target: string; measured: string; pass: boolean; why?: string }
 
@@ -84,15 +88,12 @@ export function findings(r: any, targets: Target[]): { area: string; misses: str
   if (miss('ingest-rate') || miss('ingest-p95') || miss('ingest-errors')) {
     const pts = [cpuSentence(r, ing.pgbench, ing.api, 'scan')].filter(Boolean) as string[]
     pts.push(`Where the server's CPU goes in a scan (V8 profile, self time): ${annotated(r.serverProfile?.ingest)}.`)
-    pts.push(`Each scan is 20 statements sent one after another (server/api/cases/[id]/items/index.post.ts: 4 reads, then a transaction of 14 that holds a pool connection and the case's row lock across every round trip); the pool has ${r.machine.serverPool.replace('DATABASE_POOL_MAX=', '')} connections for ${ing.clients} clients, so requests also wait for a connection.`)
+    pts.push(`Each scan is ${INGEST_STATEMENTS} statements sent one after another (server/api/cases/[id]/items/index.post.ts: 4 reads, then a transaction that holds a pool connection and the case's row lock across every round trip); the pool has ${r.machine.serverPool.replace('DATABASE_POOL_MAX=', '')} connections for ${ing.clients} clients, so requests also wait for a connection.`)
     if (miss('ingest-p95')) pts.push(closedLoop(ing.clients, 50, ing.pgbench, 'scans'))
     const dg = ing.diagnostics ?? {}
-    const d1 = dg['lock-shelf-line-only']
-    const d2 = dg['lock-shelf-line-only-no-notify']
-    if (d1 || d2) {
-      pts.push(`Two choices in the transaction cost PostgreSQL itself (diagnostic pgbench variants, taking turns with the unchanged script; on a busy machine these differences are noisy): ` +
-        (d1 ? `shelfLineFor in server/queries/items.ts takes FOR UPDATE over a join, which also locks the facility's stock_locations row, so all scans of one facility queue on it until commit — locking only the shelf line changed the rate by ${signed(d1.tps / (d1.asIs?.tps ?? ing.pgbench.tps) - 1)}; ` : '') +
-        (d2 ? `notifyLive in server/utils/live.ts calls pg_notify inside the transaction, and PostgreSQL holds one lock for every notifying transaction through its commit, so those commits (WAL flush included) go one at a time — without it as well: ${signed(d2.tps / (d2.asIs?.tps ?? ing.pgbench.tps) - 1)}.` : ''))
+    const d = dg['no-notify']
+    if (d) {
+      pts.push(`What live updates cost PostgreSQL (a diagnostic pgbench variant, taking turns with the unchanged script; on a busy machine the difference is noisy): notifyLive in server/utils/live.ts calls pg_notify inside the transaction, and PostgreSQL holds one lock for every notifying transaction through its commit, so those commits (WAL flush included) go one at a time — without it: ${signed(d.tps / (d.asIs?.tps ?? ing.pgbench.tps) - 1)}.`)
     }
     if (miss('ingest-errors')) pts.push(`Answers other than 2xx: ${JSON.stringify(ing.api.statuses)}.`)
     out.push({ area: 'Scan ingest', misses: ids('ingest-rate', 'ingest-p95', 'ingest-errors'), points: pts })
@@ -271,13 +272,12 @@ export function renderMarkdown(r: any): string {
   L.push('')
   const dg = Object.entries(ing.diagnostics ?? {}) as [string, any][]
   if (dg.length) {
-    L.push(`Diagnostics (pgbench only, not targets): the same transaction changed in one respect, taking turns with the unchanged one (${dg[0]![1].rounds ?? 1} rounds of ${Math.round(dg[0]![1].seconds / (dg[0]![1].rounds ?? 1))} s each), to show what two choices in the app's SQL cost PostgreSQL.`)
+    L.push(`Diagnostics (pgbench only, not targets): the same transaction changed in one respect, taking turns with the unchanged one (${dg[0]![1].rounds ?? 1} rounds of ${Math.round(dg[0]![1].seconds / (dg[0]![1].rounds ?? 1))} s each), to show what a choice in the app's SQL costs PostgreSQL.`)
     L.push('')
     L.push(row(['Variant', 'Rate', 'p50', 'p95', 'Unchanged, same turns', 'Change']))
     L.push(row(['---', '---', '---', '---', '---', '---']))
     const words: Record<string, string> = {
-      'lock-shelf-line-only': '`FOR UPDATE OF "sl"` in the shelf query (server/queries/items.ts shelfLineFor locks every joined row, so the facility\'s stock_locations row too: all scans of a facility queue on it until commit)',
-      'lock-shelf-line-only-no-notify': 'that, and no `pg_notify` in the transaction (server/utils/live.ts notifyLive: PostgreSQL takes one lock for all notifying transactions and holds it through commit, so their commits — WAL flush included — go one at a time)',
+      'no-notify': 'no `pg_notify` in the transaction (server/utils/live.ts notifyLive: PostgreSQL takes one lock for all notifying transactions and holds it through commit, so their commits — WAL flush included — go one at a time)',
     }
     for (const [k, d] of dg) {
       const base = d.asIs ?? ing.pgbench

@@ -201,12 +201,11 @@ async function main() {
         `API ${apiIngest.rps.toFixed(0)} req/s, p95 ${apiIngest.latencyMs.p95.toFixed(1)} ms, non-2xx ${apiIngest.non2xx}, errors ${apiIngest.errors}, timeouts ${apiIngest.timeouts}`)
       await profileWindow('ingest', () => ingestLoad(server.url, sessions, fx.cases, m.ingestClients, m.profileSeconds))
 
-      // Diagnostics, not targets: the same transaction with the shelf lock on the shelf line only (the
-      // app's FOR UPDATE over a join also locks the facility's stock_locations row), and also without
-      // NOTIFY (PostgreSQL serialises the commits of all transactions that notified).
-      const ofSl = INGEST_SCRIPT.trimStart().replace('"sl"."id" for update \\gset sl_', '"sl"."id" for update of "sl" \\gset sl_')
-      if (ofSl === INGEST_SCRIPT.trimStart()) throw new Error('the ingest script no longer has the shelf query the diagnostic edits')
-      const variants = m.smoke ? [] : [['lock-shelf-line-only', ofSl], ['lock-shelf-line-only-no-notify', ofSl.replace(/^select pg_notify.*$/m, '')]] as const
+      // A diagnostic, not a target: the same transaction without NOTIFY (PostgreSQL serialises the
+      // commits of all transactions that notified), to show what live updates cost the database.
+      const noNotify = INGEST_SCRIPT.trimStart().replace(/^select pg_notify.*$/m, '')
+      if (noNotify === INGEST_SCRIPT.trimStart()) throw new Error('the ingest script no longer has the NOTIFY the diagnostic removes')
+      const variants = m.smoke ? [] : [['no-notify', noNotify]] as const
       for (const [name, text] of variants) {
         const f = ingestFile.replace(/ingest\.sql$/, `${name}.sql`)
         writeFileSync(f, text)

@@ -1,4 +1,5 @@
 import { randomBytes, timingSafeEqual } from 'node:crypto'
+import { trustsProxy } from '../utils/http'
 import type { H3Event } from 'h3'
 
 // Cross-site request forgery: the session is a cookie, so the browser would attach it to a form or
@@ -25,7 +26,7 @@ function sameToken(a: string, b: string): boolean {
 
 /** The host the browser talked to: behind our own proxy (NUXT_TRUST_PROXY=1) the one it forwarded. */
 function requestHost(event: H3Event): string {
-  if (['true', '1'].includes(String(useRuntimeConfig(event).trustProxy))) {
+  if (trustsProxy()) {
     const fwd = getRequestHeader(event, 'x-forwarded-host')?.split(',')[0]?.trim()
     if (fwd) return fwd
   }

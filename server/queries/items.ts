@@ -63,6 +63,17 @@ export function shelfLineFor(db: Db, facilityId: number, itemId: number, lot: st
     .where(sql<boolean>`coalesce(sl.lot, '') = ${lot ?? ''}`)
     .orderBy(sql`sl.on_hand > 0`, 'desc')
     .orderBy('sl.id')
-    .forUpdate()
+    // the shelf line only: FOR UPDATE over the join would also lock the location's row, and every
+    // scan of the facility would then queue on it until commit
+    .forUpdate(['sl'])
     .execute()
+}
+
+/** Take one pack off a shelf line and write its movement, in one statement (one round trip). */
+export async function consumeOne(db: Db, stockLineId: number, m: { reason: 'implant' | 'waste'; caseItemId: number; movedBy: number }) {
+  await sql`WITH line AS (
+      UPDATE stock_lines SET on_hand = on_hand - 1, updated_at = now() WHERE id = ${stockLineId} RETURNING id
+    )
+    INSERT INTO stock_movements (stock_line_id, delta, reason, case_item_id, moved_by)
+    SELECT id, -1, ${m.reason}, ${m.caseItemId}, ${m.movedBy} FROM line`.execute(db)
 }

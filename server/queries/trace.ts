@@ -1,5 +1,6 @@
 import type { User } from '#auth-utils'
-import { sql } from 'kysely'
+import { sql, type Expression, type ExpressionBuilder, type SqlBool } from 'kysely'
+import type { Database } from '../../db/types'
 import type { TraceQuery } from '../../shared/schemas/trace'
 import type { Db } from '../utils/db'
 
@@ -11,24 +12,40 @@ const like = (s: string) => `${s.replace(/[\\%_]/g, (c) => `\\${c}`)}%`
  * Uses the lot/serial (text_pattern_ops) and DI indexes on case_items for exact and prefix matches.
  */
 export function traceRows(db: Db, q: TraceQuery, user: User) {
-  let query = db.selectFrom('case_items as i')
+  return db.selectFrom('case_items as i')
     .innerJoin('cases as c', 'c.id', 'i.case_id')
     .innerJoin('patients as p', 'p.id', 'c.patient_id')
     .innerJoin('users as s', 's.id', 'c.surgeon_id')
     .innerJoin('facilities as f', 'f.id', 'c.facility_id')
     .leftJoin('catalog_items as ci', 'ci.id', 'i.item_id')
-  if (q.lot) query = q.lotMatch === 'prefix' ? query.where('i.lot', 'like', like(q.lot)) : query.where('i.lot', '=', q.lot)
-  if (q.serial) query = q.serialMatch === 'prefix' ? query.where('i.serial', 'like', like(q.serial)) : query.where('i.serial', '=', q.serial)
-  if (q.gtin) query = query.where('i.di', '=', q.gtin.padStart(14, '0'))
-  if (q.di) query = query.where('i.di', '=', q.di)
-  if (q.itemId) query = query.where('i.item_id', '=', q.itemId)
-  if (q.from) query = query.where(sql<boolean>`(i.recorded_at AT TIME ZONE f.time_zone)::date >= ${q.from}::date`)
-  if (q.to) query = query.where(sql<boolean>`(i.recorded_at AT TIME ZONE f.time_zone)::date <= ${q.to}::date`)
-  if (q.surgeonId) query = query.where('c.surgeon_id', '=', q.surgeonId)
-  if (user.role === 'surgeon') query = query.where('c.surgeon_id', '=', user.id)
-  if (user.facilityId) query = query.where('c.facility_id', '=', user.facilityId)
-  else if (q.facilityId) query = query.where('c.facility_id', '=', q.facilityId)
-  return query
+    .where((eb) => traceFilters(eb, q, user))
+}
+
+/** The same rows, counted, with only the joins a filter can need (every item has its patient and surgeon). */
+function traceCount(db: Db, q: TraceQuery, user: User) {
+  return db.selectFrom('case_items as i')
+    .innerJoin('cases as c', 'c.id', 'i.case_id')
+    .innerJoin('facilities as f', 'f.id', 'c.facility_id')
+    .where((eb) => traceFilters(eb, q, user))
+    .select(sql<number>`count(*)::int`.as('n'))
+}
+
+type TraceTables = { i: Database['case_items']; c: Database['cases']; f: Database['facilities'] }
+
+function traceFilters(eb: ExpressionBuilder<TraceTables, 'i' | 'c' | 'f'>, q: TraceQuery, user: User) {
+  const on: Expression<SqlBool>[] = []
+  if (q.lot) on.push(q.lotMatch === 'prefix' ? eb('i.lot', 'like', like(q.lot)) : eb('i.lot', '=', q.lot))
+  if (q.serial) on.push(q.serialMatch === 'prefix' ? eb('i.serial', 'like', like(q.serial)) : eb('i.serial', '=', q.serial))
+  if (q.gtin) on.push(eb('i.di', '=', q.gtin.padStart(14, '0')))
+  if (q.di) on.push(eb('i.di', '=', q.di))
+  if (q.itemId) on.push(eb('i.item_id', '=', q.itemId))
+  if (q.from) on.push(sql<boolean>`(i.recorded_at AT TIME ZONE f.time_zone)::date >= ${q.from}::date`)
+  if (q.to) on.push(sql<boolean>`(i.recorded_at AT TIME ZONE f.time_zone)::date <= ${q.to}::date`)
+  if (q.surgeonId) on.push(eb('c.surgeon_id', '=', q.surgeonId))
+  if (user.role === 'surgeon') on.push(eb('c.surgeon_id', '=', user.id))
+  if (user.facilityId) on.push(eb('c.facility_id', '=', user.facilityId))
+  else if (q.facilityId) on.push(eb('c.facility_id', '=', q.facilityId))
+  return eb.and(on)
 }
 
 const SORT = {
@@ -41,11 +58,13 @@ export async function traceSearch(db: Db, q: TraceQuery, user: User, opts: { all
     'p.id as patient_id', 'p.mrn', 'p.family_name', 'p.given_name', 'p.birth_date',
     'c.scheduled_at', 'c.side', 's.id as surgeon_id', 's.name as surgeon_name', 'f.name as facility_name', 'f.time_zone',
     'ci.description', 'ci.reference',
-    sql<number>`count(*) OVER ()`.as('total'),
   ]).orderBy(sql.ref(SORT[q.sort]), q.dir).orderBy('i.id', q.dir)
   query = opts.all ? query.limit(100_000) : query.limit(q.pageSize).offset((q.page - 1) * q.pageSize)
   const rows = await query.execute()
-  const total = rows[0] ? Number(rows[0].total) : 0
+  // A first page that is not full is the whole answer; otherwise count apart, which is cheaper than
+  // count(*) OVER () — that makes PostgreSQL join and sort every matching row before the LIMIT.
+  const whole = opts.all || (q.page === 1 && rows.length < q.pageSize)
+  const total = whole ? rows.length : (await traceCount(db, q, user).executeTakeFirstOrThrow()).n
   return { rows, total }
 }
 

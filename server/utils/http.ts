@@ -75,10 +75,20 @@ export async function paramsWith<S extends z.ZodType>(event: H3Event, schema: S)
   return r.data
 }
 
+let trustProxy: boolean | undefined
+/**
+ * Whether the server sits behind our own proxy (NUXT_TRUST_PROXY). Read once: useRuntimeConfig(event)
+ * copies the whole config and re-reads the environment on its first call in every request.
+ */
+export function trustsProxy(): boolean {
+  // env overrides arrive as boolean, number or string depending on how they were written
+  trustProxy ??= ['true', '1'].includes(String(useRuntimeConfig().trustProxy))
+  return trustProxy
+}
+
 /** The caller's address; X-Forwarded-For only when the server is told it sits behind a proxy. */
 export function clientIp(event: H3Event): string {
-  // env overrides arrive as boolean, number or string depending on how they were written
-  if (['true', '1'].includes(String(useRuntimeConfig(event).trustProxy))) {
+  if (trustsProxy()) {
     const fwd = getRequestHeader(event, 'x-forwarded-for')
     if (fwd) return fwd.split(',')[0]!.trim()
   }

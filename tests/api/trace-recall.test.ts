@@ -65,6 +65,13 @@ describe('trace', () => {
     const p1 = await as.coordinator!.get(`/api/trace?lot=${LOT}&lotMatch=prefix&sort=serial&dir=asc&pageSize=2&page=1`)
     const p2 = await as.coordinator!.get(`/api/trace?lot=${LOT}&lotMatch=prefix&sort=serial&dir=asc&pageSize=2&page=2`)
     expect([...p1.body.rows, ...p2.body.rows].map((r: any) => r.serial)).toEqual([`${LOT}-0`, `${LOT}-1`, `${LOT}-2`, `${LOT}-X`])
+    // a full page, a page past the end: the total is counted apart and still covers every row and filter
+    expect([p1.body.total, p2.body.total]).toEqual([4, 4])
+    const past = await as.coordinator!.get(`/api/trace?lot=${LOT}&lotMatch=prefix&pageSize=2&page=3`)
+    expect([past.body.rows.length, past.body.total]).toEqual([0, 4])
+    expect((await as.coordinator!.get(`/api/trace?lot=${LOT}&lotMatch=prefix&from=${today}&pageSize=1`)).body.total).toBe(4)
+    expect((await as.coordinator!.get(`/api/trace?lot=${LOT}&lotMatch=prefix&to=2020-01-01&pageSize=1&page=2`)).body.total).toBe(0)
+    expect((await as.surgeon!.get(`/api/trace?lot=${LOT}&pageSize=1`)).body.total).toBe(2)
     const bad = await as.coordinator!.get('/api/trace?from=2026-02-30')
     expect(bad.status).toBe(400)
     expect((await as.coordinator!.get('/api/trace')).body.data.fields.lot).toMatch(/Give a lot/)

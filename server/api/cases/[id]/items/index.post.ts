@@ -13,7 +13,7 @@ import { decideScan, type CatalogFacts } from '../../../../../shared/utils/scan-
 import { isValidGtin, parseUdi, toHri } from '../../../../../shared/utils/udi'
 import { dayInZone } from '../../../../../shared/utils/dates'
 import { assertEditable, loadCase, openIfPlanned } from '../../../../queries/cases'
-import { catalogFacts, itemByDi, recallsFor, shelfLineFor } from '../../../../queries/items'
+import { catalogFacts, consumeOne, itemByDi, recallsFor, shelfLineFor } from '../../../../queries/items'
 import { noteLowStock } from '../../../../queries/replenishment'
 import type { SignedIn } from '../../../../utils/session'
 
@@ -142,10 +142,7 @@ export default defineEventHandler(async (event) => {
 
       // Opening a pack consumes it, implanted or wasted: one decrement per item, never two.
       if (usable && body.disposition !== 'explanted') {
-        await trx.updateTable('stock_lines').set((eb) => ({ on_hand: eb('on_hand', '-', 1), updated_at: new Date() })).where('id', '=', usable.id).execute()
-        await trx.insertInto('stock_movements').values({
-          stock_line_id: usable.id, delta: -1, reason: body.disposition === 'wasted' ? 'waste' : 'implant', case_item_id: item.id, moved_by: user.id,
-        }).execute()
+        await consumeOne(trx, usable.id, { reason: body.disposition === 'wasted' ? 'waste' : 'implant', caseItemId: item.id, movedBy: user.id })
         await noteLowStock(trx, usable.id, today)
       }
       await openIfPlanned(trx, locked)
