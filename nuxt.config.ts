@@ -9,6 +9,13 @@ export default defineNuxtConfig({
   // zod 4 schemas go through our own small adapter (app/utils/forms.ts), not a typed-schema package.
   veeValidate: { typedSchemaPackage: 'none' },
   typescript: { strict: true, typeCheck: false },
+  hooks: {
+    // The barcode decoder (~110 KB gzip) is imported only when someone opens the camera or a photo;
+    // without this, every scan page would ask the browser to prefetch it on arrival.
+    'build:manifest'(manifest) {
+      for (const [key, entry] of Object.entries(manifest)) if (key.includes('@zxing/')) entry.prefetch = false
+    },
+  },
   runtimeConfig: {
     // nuxt-auth-utils: sealed cookie; a shift is 12 hours. NUXT_SESSION_PASSWORD must be set in production.
     session: {
