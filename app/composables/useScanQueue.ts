@@ -1,11 +1,27 @@
-// Scans leave the device through this queue: each keeps its clientKey until the server has answered, is
-// stored on the device in IndexedDB (it survives a reload, a crash of the tab or a dropped Wi-Fi), and is
-// re-sent when the network is back. The server answers the same key once, so a scan lands exactly once.
+// Scans and readings leave the device through this queue: each keeps its clientKey until the server has
+// answered, is stored on the device in IndexedDB (it survives a reload, a crash of the tab or a dropped
+// Wi-Fi), and is re-sent when the network is back. The server answers the same key once, so each lands
+// exactly once. A reading the server refuses later (the case was closed meanwhile) stays on the device,
+// held with the server's words, until the person has seen it and dismissed it: nothing is dropped unseen.
 import { createStore, del, entries, set } from 'idb-keyval'
 import { csrfHeaders } from '~/utils/csrf'
 
-export interface QueuedScan { caseId: number; body: Record<string, unknown> & { clientKey: string }; queuedAt: number }
-export interface ScanAnswer { caseId: number; clientKey: string; status: number; body: any }
+export type QueuedKind = 'scan' | 'reading'
+export interface QueuedScan {
+  caseId: number
+  /** absent in entries queued before readings joined the queue: those are scans */
+  kind?: QueuedKind
+  body: Record<string, unknown> & { clientKey: string }
+  queuedAt: number
+  /** the server's refusal of a reading that was sent while nobody watched */
+  held?: { status: number; message: string; at: number }
+}
+export interface ScanAnswer { caseId: number; kind: QueuedKind; clientKey: string; status: number; body: any }
+
+const PATHS: Record<QueuedKind, (caseId: number) => string> = {
+  scan: (id) => `/api/cases/${id}/items`,
+  reading: (id) => `/api/cases/${id}/readings`,
+}
 
 const listeners = new Set<(a: ScanAnswer) => void>()
 let store: ReturnType<typeof createStore> | null = null
@@ -22,7 +38,14 @@ async function load(): Promise<QueuedScan[]> {
   return all.map(([, v]) => v).sort((a, b) => a.queuedAt - b.queuedAt)
 }
 async function count() {
-  useState<number>('pending-count').value = (await load()).length
+  const all = await load()
+  useState<QueuedScan[]>('device-queue').value = all
+  useState<number>('pending-count').value = all.filter((e) => !e.held).length
+}
+
+function messageOf(body: any): string {
+  const field = Object.values(body?.data?.fields ?? {})[0]
+  return (typeof field === 'string' && field) || body?.message || 'The server did not accept it.'
 }
 
 async function flush(): Promise<void> {
@@ -32,9 +55,11 @@ async function flush(): Promise<void> {
     do {
       again = false
       for (const next of await load()) {
+        if (next.held) continue
+        const kind = next.kind ?? 'scan'
         let answer: ScanAnswer
         try {
-          const res = await fetch(`/api/cases/${next.caseId}/items`, {
+          const res = await fetch(PATHS[kind](next.caseId), {
             method: 'POST',
             headers: { 'content-type': 'application/json', accept: 'application/json', ...csrfHeaders() },
             body: JSON.stringify(next.body),
@@ -43,11 +68,17 @@ async function flush(): Promise<void> {
           if (res.status >= 500 || res.status === 401 || res.status === 429) return
           // no security token yet (a fresh tab, cleared cookies): fetch one and send again later, never drop
           if (res.status === 403 && !csrfHeaders()['x-csrf-token']) { await fetch('/api/health').catch(() => {}); return }
-          answer = { caseId: next.caseId, clientKey: next.body.clientKey, status: res.status, body: await res.json().catch(() => ({})) }
+          answer = { caseId: next.caseId, kind, clientKey: next.body.clientKey, status: res.status, body: await res.json().catch(() => ({})) }
         } catch {
           return // offline: the queue stays as it is
         }
-        await del(next.body.clientKey, db())
+        // a scan's answer, refusals too, is the scan's record on the server (scan_events); a refused
+        // reading exists nowhere else, so it waits here until someone has read why
+        if (kind === 'reading' && answer.status >= 400) {
+          await set(next.body.clientKey, { ...next, held: { status: answer.status, message: messageOf(answer.body), at: Date.now() } }, db())
+        } else {
+          await del(next.body.clientKey, db())
+        }
         await count()
         for (const l of listeners) l(answer)
       }
@@ -59,6 +90,7 @@ async function flush(): Promise<void> {
 
 export function useScanQueue() {
   const pending = useState<number>('pending-count', () => 0)
+  const queued = useState<QueuedScan[]>('device-queue', () => [])
   const mine = (fn: (a: ScanAnswer) => void) => {
     onMounted(() => listeners.add(fn))
     onBeforeUnmount(() => listeners.delete(fn))
@@ -72,12 +104,44 @@ export function useScanQueue() {
     }
     void flush()
   })
-  async function enqueue(caseId: number, body: Record<string, unknown>) {
-    const entry: QueuedScan = { caseId, body: { ...body, clientKey: crypto.randomUUID() }, queuedAt: Date.now() }
-    await set(entry.body.clientKey, entry, db())
+  async function enqueue(caseId: number, body: Record<string, unknown>, kind: QueuedKind = 'scan', opts: { send?: boolean } = {}) {
+    const clientKey = typeof body.clientKey === 'string' ? body.clientKey : crypto.randomUUID()
+    const entry: QueuedScan = { caseId, kind, body: { ...body, clientKey }, queuedAt: Date.now() }
+    await set(clientKey, entry, db())
     await count()
-    void flush()
-    return entry.body.clientKey
+    if (opts.send !== false) void flush()
+    return clientKey
   }
-  return { enqueue, onAnswer: mine, pending, flush, queued: load }
+  /**
+   * Queue it and send it now: the server's answer, or null when it stays queued on the device (offline,
+   * server restarting) and will be sent by itself later. An answer returned here is shown by the
+   * caller, so it is not held.
+   */
+  async function submit(caseId: number, kind: QueuedKind, body: Record<string, unknown>, waitMs = 8000): Promise<ScanAnswer | null> {
+    const clientKey = typeof body.clientKey === 'string' ? body.clientKey : crypto.randomUUID()
+    let settle: (a: ScanAnswer | null) => void = () => {}
+    const answered = new Promise<ScanAnswer | null>((resolve) => { settle = resolve })
+    const listener = (a: ScanAnswer) => { if (a.clientKey === clientKey) settle(a) }
+    listeners.add(listener)
+    const timer = setTimeout(() => settle(null), waitMs)
+    try {
+      await enqueue(caseId, { ...body, clientKey }, kind, { send: false })
+      const ranHere = !flushing
+      await flush()
+      // our own flush went through the whole queue: still there means it could not be sent now.
+      // (When another flush was running, it takes ours on its next pass; wait for it, up to waitMs.)
+      if (ranHere && (await load()).some((e) => e.body.clientKey === clientKey && !e.held)) settle(null)
+      const a = await answered
+      if (a && a.status >= 400) await dismiss(clientKey)
+      return a
+    } finally {
+      clearTimeout(timer)
+      listeners.delete(listener)
+    }
+  }
+  async function dismiss(clientKey: string) {
+    await del(clientKey, db())
+    await count()
+  }
+  return { enqueue, submit, dismiss, onAnswer: mine, pending, queued, flush }
 }

@@ -63,3 +63,73 @@ describe('the scrub’s phone loses the network', () => {
     await context.close()
   })
 })
+
+describe('the circulator’s tablet loses the network', () => {
+  async function keyIn(page: import('playwright-core').Page, value: string) {
+    const pad = page.getByTestId('number-pad')
+    for (const ch of value) await pad.getByRole('button', { name: ch, exact: true }).click()
+    await page.getByTestId('save-reading').click()
+  }
+
+  it('readings entered offline wait on the device, survive a reload, land once; one refused later is shown, not dropped', async () => {
+    const api = clientFrom(server.url)
+    await api.login(f.users.circulator.email, TEST_PASSWORD)
+    const id = await createCase(api, f, { procedure: 'short_nail', side: 'right' })
+    const other = await createCase(api, f, { procedure: 'short_nail', side: 'left' })
+
+    const { context, page } = await newPage(browser, server.url, 'tablet')
+    await signIn(page, f.users.circulator.email, TEST_PASSWORD)
+    await page.waitForURL((u) => u.pathname === '/')
+    await open(page, `/cases/${id}`)
+    await page.getByRole('heading', { name: 'Last reamer' }).waitFor()
+
+    await context.setOffline(true)
+    await keyIn(page, '11.5')
+    // kept on the device, and the list moves on as after a save
+    await page.getByTestId('saved').filter({ hasText: 'Saved 11.5 mm on this device' }).waitFor()
+    await page.getByRole('heading', { name: 'Nail length' }).waitFor()
+    await keyIn(page, '205')
+    await page.getByRole('heading', { name: 'Neck-shaft angle' }).waitFor()
+    await page.getByTestId('pending-count').filter({ hasText: '2 pending' }).waitFor()
+    expect(await page.getByTestId('readings-waiting').textContent()).toMatch(/2 readings wait on this device/)
+    expect(await page.getByTestId('step-reamed_diameter:0').textContent()).toMatch(/11\.5 mm · waiting/)
+    expect(await testDb().selectFrom('readings').select('id').where('case_id', '=', id).execute()).toHaveLength(0)
+
+    // reloaded while writes still cannot get through (the page itself loads)
+    await context.route('**/api/cases/*/readings', (route) => (route.request().method() === 'POST' ? route.abort('internetdisconnected') : route.continue()))
+    await context.setOffline(false)
+    await page.reload()
+    await page.waitForSelector('body[data-hydrated="true"]')
+    await page.getByTestId('pending-count').filter({ hasText: '2 pending' }).waitFor()
+
+    // back: both land once, in the order entered, and the list shows them as saved
+    await context.unroute('**/api/cases/*/readings')
+    await page.evaluate(() => window.dispatchEvent(new Event('online')))
+    await page.getByTestId('step-nail_length:0').filter({ hasText: '205 mm', hasNotText: 'waiting' }).waitFor({ timeout: 15_000 })
+    expect(await page.getByTestId('step-reamed_diameter:0').textContent()).toMatch(/11\.5 mm$/)
+    expect(await page.getByTestId('pending-count').count()).toBe(0)
+    const rows = await testDb().selectFrom('readings').select(['kind', 'value']).where('case_id', '=', id).orderBy('id').execute()
+    expect(rows.map((r) => [r.kind, Number(r.value)])).toEqual([['reamed_diameter', 11.5], ['nail_length', 205]])
+
+    // a reading of another case waits offline while that case is closed on another device
+    await open(page, `/cases/${other}`)
+    await page.getByRole('heading', { name: 'Last reamer' }).waitFor()
+    await context.setOffline(true)
+    await keyIn(page, '12')
+    await page.getByTestId('saved').filter({ hasText: 'on this device' }).waitFor()
+    await testDb().updateTable('cases').set({ status: 'closed' }).where('id', '=', other).execute() // what a close from another device leaves
+    await context.setOffline(false)
+    await page.evaluate(() => window.dispatchEvent(new Event('online')))
+    const held = page.getByTestId('reading-held')
+    await held.waitFor({ timeout: 15_000 })
+    expect(await held.textContent()).toMatch(/Not saved: Last reamer 12 mm\.[\s\S]*closed/)
+    expect(await testDb().selectFrom('readings').select('id').where('case_id', '=', other).execute()).toHaveLength(0)
+    // it stays through a reload until the person dismisses it
+    await page.reload()
+    await page.waitForSelector('body[data-hydrated="true"]')
+    await held.waitFor()
+    await held.getByRole('button', { name: 'Dismiss' }).click()
+    await held.waitFor({ state: 'detached' })
+    await context.close()
+  })
+})
