@@ -42,6 +42,8 @@ export interface UsersTable {
   updated_at: DefaultTimestamp
   /** device-made key of the admin's create request (idempotent create) */
   client_key: string | null
+  /** sessions signed in before this moment are refused (set by a password reset) */
+  sessions_valid_after: ColumnType<Date | null, Date | string | null | undefined, Date | string | null>
 }
 
 export interface AuditLogTable {

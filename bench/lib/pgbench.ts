@@ -72,7 +72,7 @@ export function writeSearchScripts(searches: CapturedSearch[], userId: number): 
   const files: string[] = []
   searches.forEach((s, i) => {
     const f = path.join(dir, `lot-${String(i + 1).padStart(3, '0')}.sql`)
-    const body = `-- GET /api/trace?lot=${s.lot}\nselect "active", "role" from "users" where "id" = ${userId};\n${pgbenchScript(s.statements)}`
+    const body = `-- GET /api/trace?lot=${s.lot}\nselect "active", "role", "sessions_valid_after" from "users" where "id" = ${userId};\n${pgbenchScript(s.statements)}`
     mkdirp(dir)
     writeFileSync(f, body)
     files.push(f)
@@ -100,7 +100,7 @@ export const INGEST_SCRIPT = String.raw`
 \set h1 random(0, 1152921504606846975)
 \set h2 random(0, 1152921504606846975)
 \set s random(1, 999999999999)
-select "active", "role" from "users" where "id" = :actor;
+select "active", "role", "sessions_valid_after" from "users" where "id" = :actor;
 select "case_id", "status_code", "response" from "scan_events" where "client_key" = (lpad(to_hex(:h1::bigint), 16, '0') || lpad(to_hex(:h2::bigint), 16, '0'))::uuid;
 select * from "cases" where "id" = :case_id and "facility_id" = :fac;
 select "time_zone", "gs_substitute" from "facilities" where "id" = :fac;

@@ -6,15 +6,28 @@ import { sessionExpiry } from '../../shared/utils/session-rules'
 
 export type SignedIn = UserSession & { user: User }
 
-const activeCache = new Map<number, { active: boolean; role: string; at: number }>()
+const activeCache = new Map<number, { active: boolean; role: string; validAfter: number; at: number }>()
 
-/** Is the account still active with the same role? Cached for a few seconds to keep hot routes cheap. */
-async function stillActive(user: User): Promise<boolean> {
-  const hit = activeCache.get(user.id)
-  if (hit && Date.now() - hit.at < 5000) return hit.active && hit.role === user.role
-  const row = await useDb().selectFrom('users').select(['active', 'role']).where('id', '=', user.id).executeTakeFirst()
-  activeCache.set(user.id, { active: !!row?.active, role: row?.role ?? '', at: Date.now() })
-  return !!row?.active && row.role === user.role
+type Standing = 'ok' | 'inactive' | 'superseded'
+
+/**
+ * Is the account still active with the same role, and was this session made after its last password
+ * reset? Cached for a few seconds to keep hot routes cheap.
+ */
+async function standing(user: User, loggedInAt: number): Promise<Standing> {
+  let hit = activeCache.get(user.id)
+  if (!hit || Date.now() - hit.at >= 5000) {
+    const row = await useDb().selectFrom('users').select(['active', 'role', 'sessions_valid_after']).where('id', '=', user.id).executeTakeFirst()
+    hit = { active: !!row?.active, role: row?.role ?? '', validAfter: row?.sessions_valid_after ? new Date(row.sessions_valid_after).getTime() : 0, at: Date.now() }
+    activeCache.set(user.id, hit)
+  }
+  if (!hit.active || hit.role !== user.role) return 'inactive'
+  return loggedInAt < hit.validAfter ? 'superseded' : 'ok'
+}
+
+/** Forget what this instance cached about a person (after their role, state or password changed). */
+export function forgetStanding(userId: number): void {
+  activeCache.delete(userId)
 }
 
 /**
@@ -35,9 +48,14 @@ export async function requireRole(event: H3Event, ...allowed: Role[]): Promise<S
       message: expired === 'idle' ? 'Signed out after 30 minutes without activity. Sign in again.' : 'Your 12-hour session has ended. Sign in again.',
     })
   }
-  if (!(await stillActive(session.user))) {
+  const now = await standing(session.user, session.loggedInAt as number)
+  if (now !== 'ok') {
     await clearUserSession(event)
-    throw createError({ statusCode: 401, statusMessage: 'Unauthorized', message: 'This account is no longer active.' })
+    throw createError({
+      statusCode: 401,
+      statusMessage: 'Unauthorized',
+      message: now === 'inactive' ? 'This account is no longer active.' : 'The password of this account was reset. Sign in again with the new password.',
+    })
   }
   if (allowed.length && !hasRole(session.user, allowed)) {
     throw createError({ statusCode: 403, statusMessage: 'Forbidden', message: 'Your role does not allow this.' })

@@ -2,6 +2,7 @@
  * POST /api/admin/users/:id/password — set a new password the admin gives the person (forgotten password).
  * Checked against the policy with the person's own name and e-mail; the audit row says that it happened, never what. Admin only.
  */
+import { sql } from 'kysely'
 import { PasswordResetBody, passwordMessage, UserParams } from '../../../../../shared/schemas/admin'
 import { facilityFor } from '../../../../queries/facilities'
 import { personInFacility } from '../../../../queries/admin'
@@ -21,8 +22,10 @@ export default defineEventHandler(async (event) => {
   const passwordHash = await hashPassword(body.password)
   await db.transaction().execute(async (trx) => {
     await personInFacility(trx, id, facility.id, { forUpdate: true })
-    await trx.updateTable('users').set({ password_hash: passwordHash, updated_at: new Date() }).where('id', '=', id).execute()
+    // every session made with the old password ends (a lost or shared device signs out)
+    await trx.updateTable('users').set({ password_hash: passwordHash, sessions_valid_after: sql`now()`, updated_at: new Date() }).where('id', '=', id).execute()
     await writeAudit(trx, { actorId: user.id, action: 'user.password_reset', entity: 'user', entityId: id, details: { email: person.email } }, event)
   })
+  forgetStanding(id)
   return { ok: true }
 })
