@@ -21,24 +21,40 @@ export function traceRows(db: Db, q: TraceQuery, user: User) {
     .where((eb) => traceFilters(eb, q, user))
 }
 
-/** The same rows, counted, with only the joins a filter can need (every item has its patient and surgeon). */
+/**
+ * The same rows, counted, with only the joins a filter needs (every item has its case, patient and
+ * surgeon, so the other joins cannot change the count): a group-wide lot count reads the lot index alone.
+ */
 function traceCount(db: Db, q: TraceQuery, user: User) {
-  return db.selectFrom('case_items as i')
-    .innerJoin('cases as c', 'c.id', 'i.case_id')
-    .innerJoin('facilities as f', 'f.id', 'c.facility_id')
-    .where((eb) => traceFilters(eb, q, user))
-    .select(sql<number>`count(*)::int`.as('n'))
+  const n = sql<number>`count(*)::int`.as('n')
+  const items = db.selectFrom('case_items as i').where((eb) => itemFilters(eb, q))
+  if (!needsCase(q, user)) return items.select(n)
+  return items.innerJoin('cases as c', 'c.id', 'i.case_id').innerJoin('facilities as f', 'f.id', 'c.facility_id')
+    .where((eb) => caseFilters(eb, q, user)).select(n)
 }
 
 type TraceTables = { i: Database['case_items']; c: Database['cases']; f: Database['facilities'] }
 
 function traceFilters(eb: ExpressionBuilder<TraceTables, 'i' | 'c' | 'f'>, q: TraceQuery, user: User) {
+  return eb.and([itemFilters(eb, q), caseFilters(eb, q, user)])
+}
+
+function itemFilters(eb: ExpressionBuilder<Pick<TraceTables, 'i'>, 'i'>, q: TraceQuery) {
   const on: Expression<SqlBool>[] = []
   if (q.lot) on.push(q.lotMatch === 'prefix' ? eb('i.lot', 'like', like(q.lot)) : eb('i.lot', '=', q.lot))
   if (q.serial) on.push(q.serialMatch === 'prefix' ? eb('i.serial', 'like', like(q.serial)) : eb('i.serial', '=', q.serial))
   if (q.gtin) on.push(eb('i.di', '=', q.gtin.padStart(14, '0')))
   if (q.di) on.push(eb('i.di', '=', q.di))
   if (q.itemId) on.push(eb('i.item_id', '=', q.itemId))
+  return eb.and(on)
+}
+
+function needsCase(q: TraceQuery, user: User): boolean {
+  return !!(q.from || q.to || q.surgeonId || user.role === 'surgeon' || user.facilityId || q.facilityId)
+}
+
+function caseFilters(eb: ExpressionBuilder<TraceTables, 'i' | 'c' | 'f'>, q: TraceQuery, user: User) {
+  const on: Expression<SqlBool>[] = []
   if (q.from) on.push(sql<boolean>`(i.recorded_at AT TIME ZONE f.time_zone)::date >= ${q.from}::date`)
   if (q.to) on.push(sql<boolean>`(i.recorded_at AT TIME ZONE f.time_zone)::date <= ${q.to}::date`)
   if (q.surgeonId) on.push(eb('c.surgeon_id', '=', q.surgeonId))

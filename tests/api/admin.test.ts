@@ -1,6 +1,6 @@
 import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { Client, clientFrom } from '../helpers/http'
+import { Client, clientFrom, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, tag, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
@@ -9,16 +9,12 @@ const baseURL = inject('baseURL')
 let f: TestFacility
 let shelf: Awaited<ReturnType<typeof standardShelf>>
 const as: Record<string, Client> = {}
-const ROLES = ['circulator', 'scrub', 'surgeon', 'coordinator', 'admin'] as const
 const GOOD_PASSWORD = 'amber-lantern-quiet-71'
 
 beforeAll(async () => {
   f = await makeFacility()
   shelf = await standardShelf(f)
-  for (const role of ROLES) {
-    as[role] = clientFrom(baseURL)
-    await as[role].login(f.users[role].email, TEST_PASSWORD)
-  }
+  Object.assign(as, await signInRoles(baseURL, f, TEST_PASSWORD))
 })
 afterAll(closeTestDb)
 

@@ -1,6 +1,6 @@
 import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { clientFrom, type Client } from '../helpers/http'
+import { clientFrom, type Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { createCase, newCaseBody, reading } from '../helpers/cases'
@@ -13,10 +13,7 @@ const as: Record<string, Client> = {}
 beforeAll(async () => {
   f = await makeFacility()
   shelf = await standardShelf(f)
-  for (const role of ['circulator', 'scrub', 'surgeon', 'coordinator', 'admin'] as const) {
-    as[role] = clientFrom(baseURL)
-    await as[role].login(f.users[role].email, TEST_PASSWORD)
-  }
+  Object.assign(as, await signInRoles(baseURL, f, TEST_PASSWORD))
 })
 afterAll(closeTestDb)
 

@@ -1,6 +1,6 @@
 import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { clientFrom, Client } from '../helpers/http'
+import { Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { addItems, randomGtin, standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
@@ -18,10 +18,7 @@ beforeAll(async () => {
   shelf = await standardShelf(f)
   // many packs of the sizes this file scans again and again
   await testDb().updateTable('stock_lines').set({ on_hand: 1000 }).where('id', 'in', shelf.rows.map((r) => r.stockLineId)).execute()
-  for (const role of ['circulator', 'scrub', 'surgeon', 'coordinator', 'admin'] as const) {
-    as[role] = clientFrom(baseURL)
-    await as[role].login(f.users[role].email, TEST_PASSWORD)
-  }
+  Object.assign(as, await signInRoles(baseURL, f, TEST_PASSWORD))
 })
 afterAll(closeTestDb)
 

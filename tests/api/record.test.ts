@@ -4,7 +4,7 @@ import { mkdtempSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { clientFrom, type Client } from '../helpers/http'
+import { clientFrom, type Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
@@ -20,10 +20,7 @@ beforeAll(async () => {
   await testDb().updateTable('facilities').set({ records_inbox: `records-${f.tag}@example.test` }).where('id', '=', f.facilityId).execute()
   shelf = await standardShelf(f)
   await testDb().updateTable('stock_lines').set({ on_hand: 1000 }).where('id', 'in', shelf.rows.map((r) => r.stockLineId)).execute()
-  for (const role of ['circulator', 'scrub', 'surgeon', 'coordinator', 'admin'] as const) {
-    as[role] = clientFrom(baseURL)
-    await as[role].login(f.users[role].email, TEST_PASSWORD)
-  }
+  Object.assign(as, await signInRoles(baseURL, f, TEST_PASSWORD))
 })
 afterAll(closeTestDb)
 

