@@ -24,8 +24,8 @@ function topNames(list: { name: string; share: number }[] | undefined, k = 4): s
 
 /** What the hot functions of a server profile are, in the app's terms (only those seen in this code). */
 const KNOWN: [RegExp, string][] = [
-  [/^dayInZone /, 'shared/utils/dates.ts builds a new Intl.DateTimeFormat on every call; the trace route calls it once per result row, the scan route once per request'],
-  [/^(getEnv|applyEnv|kebabCase|snakeCase|splitByCase) /, "Nitro's useRuntimeConfig(event) deep-copies the runtime config and re-reads every key from process.env on its first call in each request; server/middleware/csrf.ts (every write) and clientIp() in server/utils/http.ts (every audit row) call it"],
+  [/^(dayInZone|partsInZone) /, 'shared/utils/dates.ts formats the day of every result row in the facility\'s zone (formatToParts, one cached formatter per zone)'],
+  [/^(getEnv|applyEnv|kebabCase|snakeCase|splitByCase) /, "Nitro's useRuntimeConfig(event) deep-copies the runtime config and re-reads every key from process.env on its first call in a request; our own code reads the config once per process (trustsProxy in server/utils/http.ts), so a module calls it"],
   [/^writev /, 'socket writes: node-postgres writes each statement to the database, and each answer goes out'],
   [/^\(garbage collector\)/, 'garbage collection'],
 ]
@@ -79,7 +79,7 @@ export function findings(r: any, targets: Target[]): { area: string; misses: str
     pts.push(`Where the server's CPU goes in a search (V8 profile, self time): ${annotated(r.serverProfile?.search)}.`)
     if (miss('search-p95')) pts.push(closedLoop(s.clients, 30, s.pgbench, 'searches'))
     const pl = r.heaviestSearchPlan
-    if (pl) pts.push(`The SQL itself visits every row of the lot — count(*) OVER () needs them all before LIMIT 50 — with an index lookup into cases, patients and users per row, then sorts: the heaviest lot in the set (${n0(pl.rows)} rows) takes ${ms(pl.executionMs, 1)} to execute and ${ms(pl.planningMs, 1)} to plan on a warm cache.`)
+    if (pl) pts.push(`The SQL itself (server/queries/trace.ts): the page reads the lot's newest rows from the lot index in order and joins cases, patients, users and facilities for those only; a full first page also counts the lot apart. The heaviest lot in the set (${n0(pl.rows)} rows) takes ${ms(pl.executionMs, 1)} to execute and ${ms(pl.planningMs, 1)} to plan on a warm cache — planning six joins costs about as much as running them, for pgbench and the API alike.`)
     const one = r.lotSearch.find((l: any) => l.clients === 1)
     if (one) pts.push(`One client at a time: API p50 ${ms(one.api.latencyMs.p50, 1)} / p95 ${ms(one.api.latencyMs.p95, 1)} against pgbench ${ms(one.pgbench.latencyMs.p50, 1)} / ${ms(one.pgbench.latencyMs.p95, 1)}.`)
     out.push({ area: 'Lot search', misses: ids('search-p50-ratio', 'search-p95'), points: pts })
@@ -112,7 +112,10 @@ export function findings(r: any, targets: Target[]): { area: string; misses: str
     const scan = r.client.pages.find((p: any) => p.path.endsWith('/implants'))
     const pts = sizing.map((p: any) => `${p.path.replace(/\/cases\/\d+/, '/cases/[id]')}: ${kb(p.js.gzipBytes)} of its own JS (gzip) in ${p.js.files} files — largest ${chunkList(p.js.chunks, 3)}; ${ms(p.hydratedMedianMs, 0)} cold, ${ms(p.warmHydratedMedianMs, 0)} with a warm cache.`)
     pts.push('At 4× CPU slowdown most of the cold time is parsing, compiling and running that JS (and the SSR payload) before the app mounts; the warm-cache loads, where the compiled code is cached, show how much.')
-    if (scan) pts.push(`The scan page (within its JS target): ${chunkList(scan.js.chunks, 3)} — the barcode decoder is fetched on every visit, before anyone opens the camera.`)
+    if (scan) {
+      const decoder = scan.js.chunks.some((c: any) => (c.holds ?? []).some((h: string) => h.includes('@zxing')))
+      pts.push(`The scan page (within its JS target): ${chunkList(scan.js.chunks, 3)} — ${decoder ? 'the barcode decoder is fetched on every visit, before anyone opens the camera' : 'the barcode decoder is not fetched until someone opens the camera or a photo'}.`)
+    }
     out.push({ area: 'Client', misses: ids('tti-sizing', 'js-scan'), points: pts })
   }
   return out

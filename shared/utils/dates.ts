@@ -1,31 +1,32 @@
 // Calendar dates as 'YYYY-MM-DD' (21 CFR 801.18 style) and times in the facility's own time zone.
 
-// Building an Intl.DateTimeFormat costs far more than using one (it loads the zone's rules), and a
-// trace answer formats a day per row: keep one formatter per zone and kind. Few zones ever occur.
-const dayFormats = new Map<string, Intl.DateTimeFormat>()
-const timeFormats = new Map<string, Intl.DateTimeFormat>()
+// Building an Intl.DateTimeFormat costs far more than using one (it loads the zone's rules; in a
+// browser at page load it is one of the dearest calls), and a trace answer formats a day per row:
+// one formatter per zone gives both the day and the time. Few zones ever occur.
+const formats = new Map<string, Intl.DateTimeFormat>()
 
-function formatter(cache: Map<string, Intl.DateTimeFormat>, timeZone: string, make: () => Intl.DateTimeFormat): Intl.DateTimeFormat {
-  let f = cache.get(timeZone)
+export function partsInZone(instant: Date | string | number, timeZone: string): Record<'year' | 'month' | 'day' | 'hour' | 'minute', string> {
+  let f = formats.get(timeZone)
   if (!f) {
-    f = make() // throws for an unknown zone, before anything is cached
-    cache.set(timeZone, f)
+    // hourCycle h23: "00:30", never "24:30"; throws for an unknown zone, before anything is cached
+    f = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' })
+    formats.set(timeZone, f)
   }
-  return f
+  const out = { year: '', month: '', day: '', hour: '', minute: '' }
+  for (const p of f.formatToParts(new Date(instant))) if (p.type in out) out[p.type as keyof typeof out] = p.value
+  return out
 }
 
 /** The calendar day of an instant in a time zone, e.g. ('2026-12-01T23:30:00Z', 'Europe/Berlin') → '2026-12-02'. */
 export function dayInZone(instant: Date | string | number, timeZone: string): string {
-  const f = formatter(dayFormats, timeZone, () => new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }))
-  const parts = f.formatToParts(new Date(instant))
-  const get = (t: string) => parts.find((p) => p.type === t)?.value ?? ''
-  return `${get('year')}-${get('month')}-${get('day')}`
+  const p = partsInZone(instant, timeZone)
+  return `${p.year}-${p.month}-${p.day}`
 }
 
 /** 'HH:MM' (24 h) of an instant in a time zone. */
 export function timeInZone(instant: Date | string | number, timeZone: string): string {
-  const f = formatter(timeFormats, timeZone, () => new Intl.DateTimeFormat('en-GB', { timeZone, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }))
-  return f.format(new Date(instant))
+  const p = partsInZone(instant, timeZone)
+  return `${p.hour}:${p.minute}`
 }
 
 /** 'YYYY-MM-DD HH:MM' in a time zone, for records and lists. */

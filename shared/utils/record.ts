@@ -12,6 +12,7 @@
  */
 import { STANDING_CAUTION } from './sizing'
 import { hibcCheckChar } from './udi'
+import { partsInZone } from './dates'
 
 // ---------------------------------------------------------------------------------------------
 // Input: a snapshot of the case as read from the database
@@ -257,20 +258,6 @@ const capital = (s: string): string => (s ? s.charAt(0).toUpperCase() + s.slice(
 // Time in the facility's zone
 // ---------------------------------------------------------------------------------------------
 
-const FORMATTERS = new Map<string, Intl.DateTimeFormat>()
-
-function formatterFor(timeZone: string): Intl.DateTimeFormat {
-  let f = FORMATTERS.get(timeZone)
-  if (!f) {
-    // hourCycle h23: "00:30", never "24:30" (some engines do that with hour12: false).
-    f = new Intl.DateTimeFormat('en-CA', {
-      timeZone, year: 'numeric', month: '2-digit', day: '2-digit', hour: '2-digit', minute: '2-digit', hourCycle: 'h23',
-    })
-    FORMATTERS.set(timeZone, f)
-  }
-  return f
-}
-
 function toMs(instant: string, what: string): number {
   const ms = Date.parse(instant)
   if (typeof instant !== 'string' || Number.isNaN(ms)) throw new RangeError(`${what}: not an ISO instant: ${String(instant)}`)
@@ -280,9 +267,8 @@ function toMs(instant: string, what: string): number {
 /** An instant as UTC ISO plus 'YYYY-MM-DD' (21 CFR 801.18 style) and 'HH:MM' in `timeZone`. */
 export function recordTime(instant: string, timeZone: string, what = 'time'): RecordTime {
   const d = new Date(toMs(instant, what))
-  const parts = formatterFor(timeZone).formatToParts(d)
-  const get = (t: string) => parts.find((p) => p.type === t)?.value ?? ''
-  return { iso: d.toISOString(), date: `${get('year')}-${get('month')}-${get('day')}`, time: `${get('hour')}:${get('minute')}` }
+  const p = partsInZone(d, timeZone)
+  return { iso: d.toISOString(), date: `${p.year}-${p.month}-${p.day}`, time: `${p.hour}:${p.minute}` }
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -516,7 +502,7 @@ function checkMeta(meta: RecordMeta): void {
 export function buildRecord(s: CaseSnapshot, meta: RecordMeta): CaseRecord {
   checkMeta(meta)
   const tz = s.facility.timeZone
-  formatterFor(tz) // throws RangeError early for an unknown zone
+  partsInZone(0, tz) // throws RangeError early for an unknown zone
 
   const scheduled = recordTime(s.case.scheduledAt, tz, 'scheduledAt')
   const opened = s.case.openedAt ? recordTime(s.case.openedAt, tz, 'openedAt') : null
