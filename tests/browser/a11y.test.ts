@@ -146,3 +146,20 @@ describe('touch targets on the theatre pages are at least 44×44 px', () => {
     await context.close()
   }, 120_000)
 })
+
+describe('print', () => {
+  it('the record view prints without the top bar, the steps or any control', async () => {
+    const { context, page } = await newPage(browser, baseURL, 'desktop')
+    await signIn(page, f.users.surgeon.email, TEST_PASSWORD)
+    await page.waitForURL((u) => u.pathname === '/')
+    await open(page, `/cases/${caseId}/record`)
+    const visibleControls = () => page.evaluate(() => [...document.querySelectorAll('header[data-shell], nav, button, a.btn-primary, a.btn-secondary, input, form')]
+      .filter((e) => (e as HTMLElement).offsetParent !== null || getComputedStyle(e).position === 'fixed').map((e) => e.outerHTML.slice(0, 80)))
+    expect((await visibleControls()).length).toBeGreaterThan(0)
+    await page.emulateMedia({ media: 'print' })
+    expect(await visibleControls()).toEqual([])
+    // the record's words remain, the patient's name first among them
+    expect(await page.getByTestId('case-header').isVisible()).toBe(true)
+    await context.close()
+  })
+})
