@@ -1,0 +1,75 @@
+// Colour is never the only signal: the scan band for accepted / check / refused differs in icon and words.
+// WCAG 2.2 SC 1.4.1 Use of Color; DESIGN.md (colour, icon and words together).
+import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
+import type { Browser, Page } from 'playwright-core'
+import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import { closeTestDb, makeFacility, TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { addItems, standardShelf } from '../helpers/catalog'
+import { confirm, createCase, gs1Scan, reading } from '../helpers/cases'
+import { clientFrom } from '../helpers/http'
+
+const baseURL = inject('baseURL')
+let browser: Browser
+let f: TestFacility
+let shelf: Awaited<ReturnType<typeof standardShelf>>
+
+beforeAll(async () => {
+  browser = await launchBrowser()
+  f = await makeFacility()
+  shelf = await standardShelf(f)
+})
+afterAll(async () => {
+  await browser?.close()
+  await closeTestDb()
+})
+
+async function bandOf(page: Page, result: string) {
+  const band = page.locator(`[data-test="scan-band"][data-result="${result}"]`)
+  await band.waitFor()
+  return {
+    word: (await band.locator('p').first().textContent())?.trim(),
+    icon: await band.locator('svg').innerHTML(),
+    colour: await band.evaluate((e) => getComputedStyle(e).backgroundColor),
+  }
+}
+
+describe('the scan band', () => {
+  it('says accepted, check and refused with different words and icons, not only colours', async () => {
+    const api = clientFrom(baseURL)
+    await api.login(f.users.circulator.email, TEST_PASSWORD)
+    const id = await createCase(api, f)
+    await reading(api, id, 'head_element_length', 92)
+    const s = (await api.get(`/api/cases/${id}/sizing`)).body
+    const surgeon = clientFrom(baseURL)
+    await surgeon.login(f.users.surgeon.email, TEST_PASSWORD)
+    await confirm(surgeon, id, 'head_element', s.headElement.ideal.id)
+    const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
+    const { context, page } = await newPage(browser, baseURL, 'phone')
+    await signIn(page, f.users.scrub.email, TEST_PASSWORD)
+    await page.waitForURL((u) => u.pathname === '/')
+    await open(page, `/cases/${id}/implants`)
+    const wedge = page.getByTestId('wedge')
+    const ds = shelf.rows.find((r) => r.spec.kind === 'distal_screw' && r.spec.len === 36)!
+
+    await wedge.fill(gs1Scan(he.gtin, { expiry: '2030-12-31', lot: `L${he.id}`, serial: 'BAND-1' }))
+    await wedge.press('Enter')
+    const accepted = await bandOf(page, 'accepted')
+
+    // Waste chosen without a reason: the page asks to choose one (a "check")
+    await page.getByTestId('mode-waste').click()
+    await wedge.fill(gs1Scan(ds.gtin, { expiry: '2030-12-31', lot: `L${ds.id}` }))
+    await wedge.press('Enter')
+    const check = await bandOf(page, 'check')
+    await page.getByTestId('mode-implant').click()
+
+    const [old] = await addItems(f, [{ kind: 'distal_screw', d: 5, len: 40, lot: 'OLD', expiry: '2021-03-31' }])
+    await wedge.fill(gs1Scan(old!.gtin, { expiry: '2021-03-31', lot: 'OLD' }))
+    await wedge.press('Enter')
+    const refused = await bandOf(page, 'refused')
+
+    expect([accepted.word, check.word, refused.word]).toEqual(['Accepted', 'Check', 'Refused'])
+    expect(new Set([accepted.icon, check.icon, refused.icon]).size).toBe(3)
+    expect(new Set([accepted.colour, check.colour, refused.colour]).size).toBe(3)
+    await context.close()
+  })
+})
