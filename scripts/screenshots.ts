@@ -55,8 +55,11 @@ async function main() {
     const lots = await db.selectFrom('stock_lines').select(['item_id', 'lot', 'expiry']).where('item_id', 'in', items.map((i) => i.id)).execute()
     for (const it of items) {
       const line = lots.find((l) => l.item_id === it.id)!
-      await post(scrub, 'items', { scan: gs1Scan(it.gtin!, { expiry: String(line.expiry), lot: line.lot ?? undefined, serial: it.id === sizing.nail.ideal.id ? 'DEMO0001' : undefined }), source: 'wedge', disposition: 'implanted' })
+      const r = await post(scrub, 'items', { scan: gs1Scan(it.gtin!, { expiry: String(line.expiry), lot: line.lot ?? undefined, serial: it.id === sizing.nail.ideal.id ? 'DEMO0001' : undefined }), source: 'wedge', disposition: 'implanted' })
+      // the aiming guide checked against the nail, as the circulator acknowledges it
+      if (r.body?.result === 'check') await circ.post(`/api/cases/${id}/items/${r.body.item.id}/acknowledge`, {})
     }
+
     const nailLot = lots.find((l) => l.item_id === sizing.nail.ideal.id)!.lot!
 
     mkdirSync(out, { recursive: true })
@@ -71,6 +74,8 @@ async function main() {
       ['shelf-tablet', 'circulator', 'tablet', '/shelf'],
     ]
     for (const [name, role, device, where] of shots) {
+      // the log is closed after the team's screens are taken, so the surgeon's Record step shows the signing form
+      if (name === 'record-desktop') await circ.post(`/api/cases/${id}/close`)
       const { context, page } = await newPage(browser, server.url, device)
       await signIn(page, email(role), PASSWORD)
       await page.waitForURL((u) => u.pathname === '/')
