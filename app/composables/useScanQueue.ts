@@ -7,7 +7,7 @@ import { createStore, del, entries, set } from 'idb-keyval'
 import { csrfHeaders } from '~/utils/csrf'
 
 export type QueuedKind = 'scan' | 'reading'
-export interface QueuedScan {
+export interface QueuedCapture {
   caseId: number
   /** absent in entries queued before readings joined the queue: those are scans */
   kind?: QueuedKind
@@ -16,14 +16,14 @@ export interface QueuedScan {
   /** the server's refusal of a reading that was sent while nobody watched */
   held?: { status: number; message: string; at: number }
 }
-export interface ScanAnswer { caseId: number; kind: QueuedKind; clientKey: string; status: number; body: any }
+export interface QueueAnswer { caseId: number; kind: QueuedKind; clientKey: string; status: number; body: any }
 
 const PATHS: Record<QueuedKind, (caseId: number) => string> = {
   scan: (id) => `/api/cases/${id}/items`,
   reading: (id) => `/api/cases/${id}/readings`,
 }
 
-const listeners = new Set<(a: ScanAnswer) => void>()
+const listeners = new Set<(a: QueueAnswer) => void>()
 let store: ReturnType<typeof createStore> | null = null
 let flushing = false
 let again = false
@@ -33,13 +33,13 @@ function db() {
   store ??= createStore('isthmus', 'scan-queue')
   return store
 }
-async function load(): Promise<QueuedScan[]> {
-  const all = await entries<string, QueuedScan>(db())
+async function load(): Promise<QueuedCapture[]> {
+  const all = await entries<string, QueuedCapture>(db())
   return all.map(([, v]) => v).sort((a, b) => a.queuedAt - b.queuedAt)
 }
 async function count() {
   const all = await load()
-  useState<QueuedScan[]>('device-queue').value = all
+  useState<QueuedCapture[]>('device-queue').value = all
   useState<number>('pending-count').value = all.filter((e) => !e.held).length
 }
 
@@ -57,7 +57,7 @@ async function flush(): Promise<void> {
       for (const next of await load()) {
         if (next.held) continue
         const kind = next.kind ?? 'scan'
-        let answer: ScanAnswer
+        let answer: QueueAnswer
         try {
           const res = await fetch(PATHS[kind](next.caseId), {
             method: 'POST',
@@ -90,8 +90,8 @@ async function flush(): Promise<void> {
 
 export function useScanQueue() {
   const pending = useState<number>('pending-count', () => 0)
-  const queued = useState<QueuedScan[]>('device-queue', () => [])
-  const mine = (fn: (a: ScanAnswer) => void) => {
+  const queued = useState<QueuedCapture[]>('device-queue', () => [])
+  const mine = (fn: (a: QueueAnswer) => void) => {
     onMounted(() => listeners.add(fn))
     onBeforeUnmount(() => listeners.delete(fn))
   }
@@ -106,7 +106,7 @@ export function useScanQueue() {
   })
   async function enqueue(caseId: number, body: Record<string, unknown>, kind: QueuedKind = 'scan', opts: { send?: boolean } = {}) {
     const clientKey = typeof body.clientKey === 'string' ? body.clientKey : crypto.randomUUID()
-    const entry: QueuedScan = { caseId, kind, body: { ...body, clientKey }, queuedAt: Date.now() }
+    const entry: QueuedCapture = { caseId, kind, body: { ...body, clientKey }, queuedAt: Date.now() }
     await set(clientKey, entry, db())
     await count()
     if (opts.send !== false) void flush()
@@ -117,11 +117,11 @@ export function useScanQueue() {
    * server restarting) and will be sent by itself later. An answer returned here is shown by the
    * caller, so it is not held.
    */
-  async function submit(caseId: number, kind: QueuedKind, body: Record<string, unknown>, waitMs = 8000): Promise<ScanAnswer | null> {
+  async function submit(caseId: number, kind: QueuedKind, body: Record<string, unknown>, waitMs = 8000): Promise<QueueAnswer | null> {
     const clientKey = typeof body.clientKey === 'string' ? body.clientKey : crypto.randomUUID()
-    let settle: (a: ScanAnswer | null) => void = () => {}
-    const answered = new Promise<ScanAnswer | null>((resolve) => { settle = resolve })
-    const listener = (a: ScanAnswer) => { if (a.clientKey === clientKey) settle(a) }
+    let settle: (a: QueueAnswer | null) => void = () => {}
+    const answered = new Promise<QueueAnswer | null>((resolve) => { settle = resolve })
+    const listener = (a: QueueAnswer) => { if (a.clientKey === clientKey) settle(a) }
     listeners.add(listener)
     const timer = setTimeout(() => settle(null), waitMs)
     try {

@@ -36,7 +36,7 @@ export async function readBodyWith<S extends z.ZodType>(event: H3Event, schema: 
 }
 
 /** The path of the first string holding a NUL character, or null. */
-export function nulPath(v: unknown, path: string[] = []): string[] | null {
+function nulPath(v: unknown, path: string[] = []): string[] | null {
   if (typeof v === 'string') return v.includes('\u0000') ? path : null
   if (Array.isArray(v)) {
     for (let i = 0; i < v.length; i++) { const p = nulPath(v[i], [...path, String(i)]); if (p) return p }
@@ -61,8 +61,9 @@ function rejectNul(raw: unknown): void {
 }
 
 export async function queryWith<S extends z.ZodType>(event: H3Event, schema: S): Promise<z.output<S>> {
-  rejectNul(getQuery(event))
-  const r = await schema.safeParseAsync(getQuery(event))
+  const query = getQuery(event)
+  rejectNul(query)
+  const r = await schema.safeParseAsync(query)
   if (!r.success) badRequest(r.error.issues)
   return r.data
 }

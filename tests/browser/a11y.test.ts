@@ -6,7 +6,7 @@ import { readFileSync } from 'node:fs'
 import { createRequire } from 'node:module'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import { launchBrowser, newPage, open, openSignedIn, signIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
@@ -71,9 +71,7 @@ describe('axe-core finds no serious or critical problem', () => {
 
   it.each(['circulator', 'scrub', 'surgeon', 'coordinator', 'admin'] as Role[])('on every page the %s can open', async (role) => {
     const device = role === 'scrub' ? 'phone' : role === 'circulator' ? 'tablet' : 'desktop'
-    const { context, page } = await newPage(browser, baseURL, device)
-    await signIn(page, f.users[role].email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, device, f.users[role].email, TEST_PASSWORD)
     const found: string[] = []
     const pages = pagesFor(role)
     expect(pages.length).toBeGreaterThan(1)
@@ -133,9 +131,7 @@ describe('touch targets on the theatre pages are at least 44×44 px', () => {
   }
 
   it.each([['circulator', 'tablet'], ['scrub', 'phone'], ['circulator', 'phone']] as const)('%s on the %s', async (role, device) => {
-    const { context, page } = await newPage(browser, baseURL, device)
-    await signIn(page, f.users[role].email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, device, f.users[role].email, TEST_PASSWORD)
     const found: string[] = []
     for (const path of ['/', ...CASE_PAGES(caseId).slice(0, 3)]) {
       await open(page, path)
@@ -149,9 +145,7 @@ describe('touch targets on the theatre pages are at least 44×44 px', () => {
 
 describe('print', () => {
   it('the record view prints without the top bar, the steps or any control', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'desktop')
-    await signIn(page, f.users.surgeon.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'desktop', f.users.surgeon.email, TEST_PASSWORD)
     await open(page, `/cases/${caseId}/record`)
     const visibleControls = () => page.evaluate(() => [...document.querySelectorAll('header[data-shell], nav, button, a.btn-primary, a.btn-secondary, input, form')]
       .filter((e) => (e as HTMLElement).offsetParent !== null || getComputedStyle(e).position === 'fixed').map((e) => e.outerHTML.slice(0, 80)))

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import { launchBrowser, open, openSignedIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, tag, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { clientFrom } from '../helpers/http'
 
@@ -19,9 +19,7 @@ afterAll(async () => {
 
 describe('the admin at the desk', () => {
   it('adds a person through the form (a weak password is refused beside the field first), then deactivates them', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.admin.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.admin.email, TEST_PASSWORD)
     await open(page, '/people')
     await page.getByTestId('people-table').waitFor()
 
@@ -73,9 +71,7 @@ describe('the admin at the desk', () => {
   })
 
   it('changes the nail clearance and sees version 2 in the history', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.admin.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.admin.email, TEST_PASSWORD)
     await open(page, '/settings')
     await page.getByTestId('profile-version-1').waitFor()
     expect(await page.getByTestId('profile-version-2').count()).toBe(0)

@@ -2,26 +2,20 @@
 // WCAG 2.2 SC 1.4.1 Use of Color; DESIGN.md (colour, icon and words together).
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
-import { closeTestDb, makeFacility, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { addItems, standardShelf } from '../helpers/catalog'
+import { open, openSignedIn } from '../helpers/browser'
+import { TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { closeSuite, openSuite, type Shelf } from '../helpers/suite'
+import { addItems } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading } from '../helpers/cases'
 import { clientFrom } from '../helpers/http'
 
 const baseURL = inject('baseURL')
 let browser: Browser
 let f: TestFacility
-let shelf: Awaited<ReturnType<typeof standardShelf>>
+let shelf: Shelf
 
-beforeAll(async () => {
-  browser = await launchBrowser()
-  f = await makeFacility()
-  shelf = await standardShelf(f)
-})
-afterAll(async () => {
-  await browser?.close()
-  await closeTestDb()
-})
+beforeAll(async () => { ({ browser, f, shelf } = await openSuite()) })
+afterAll(() => closeSuite(browser))
 
 async function bandOf(page: Page, result: string) {
   const band = page.locator(`[data-test="scan-band"][data-result="${result}"]`)
@@ -44,9 +38,7 @@ describe('the scan band', () => {
     await surgeon.login(f.users.surgeon.email, TEST_PASSWORD)
     await confirm(surgeon, id, 'head_element', s.headElement.ideal.id)
     const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
-    const { context, page } = await newPage(browser, baseURL, 'phone')
-    await signIn(page, f.users.scrub.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'phone', f.users.scrub.email, TEST_PASSWORD)
     await open(page, `/cases/${id}/implants`)
     const wedge = page.getByTestId('wedge')
     const ds = shelf.rows.find((r) => r.spec.kind === 'distal_screw' && r.spec.len === 36)!

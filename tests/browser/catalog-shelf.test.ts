@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import { launchBrowser, open, openSignedIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { addItems, randomGtin, standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
@@ -82,9 +82,7 @@ afterAll(async () => {
 
 describe('the shelf and the catalog, as the coordinator on the tablet', () => {
   it('shows the shelf by size, receives a pack by scan, and loads the usage charts only when asked', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.coordinator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.coordinator.email, TEST_PASSWORD)
     const scripts = scriptsOf(page)
     const problems = problemsOf(page)
     await open(page, '/shelf')
@@ -189,9 +187,7 @@ describe('the shelf and the catalog, as the coordinator on the tablet', () => {
   })
 
   it('the circulator sees the shelf and can receive, but not count, set par or reorder', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.circulator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.circulator.email, TEST_PASSWORD)
     await open(page, '/shelf?view=lines')
     await page.getByTestId('receive-scan').waitFor()
     await page.getByTestId('lines').waitFor()
@@ -214,9 +210,7 @@ describe('the shelf and the catalog, as the coordinator on the tablet', () => {
   })
 
   it('imports an item master: a file with a bad row is refused with the row named, a good file is created', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.coordinator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.coordinator.email, TEST_PASSWORD)
     const problems = problemsOf(page)
     await open(page, '/catalog')
     await page.getByTestId('catalog-table').waitFor()
@@ -279,9 +273,7 @@ describe('the shelf and the catalog, as the coordinator on the tablet', () => {
   })
 
   it('adds an item with the form: a wrong GTIN check digit is named beside the field', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.coordinator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.coordinator.email, TEST_PASSWORD)
     await open(page, '/catalog')
     await page.getByTestId('open-add').click()
     await page.getByTestId('kind-distal_screw').check()

@@ -3,26 +3,19 @@
 // and every control reached shows where the focus is (WCAG 2.2 SC 2.1.1 Keyboard, SC 2.4.7 Focus Visible).
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
-import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { standardShelf } from '../helpers/catalog'
+import { open, openSignedIn } from '../helpers/browser'
+import { testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { closeSuite, openSuite, type Shelf } from '../helpers/suite'
 import { createCase, gs1Scan } from '../helpers/cases'
 import { signInRoles } from '../helpers/http'
 
 const baseURL = inject('baseURL')
 let browser: Browser
 let f: TestFacility
-let shelf: Awaited<ReturnType<typeof standardShelf>>
+let shelf: Shelf
 
-beforeAll(async () => {
-  browser = await launchBrowser()
-  f = await makeFacility()
-  shelf = await standardShelf(f)
-})
-afterAll(async () => {
-  await browser?.close()
-  await closeTestDb()
-})
+beforeAll(async () => { ({ browser, f, shelf } = await openSuite()) })
+afterAll(() => closeSuite(browser))
 
 interface Focused { tag: string; test: string | null; text: string; ring: boolean }
 
@@ -52,9 +45,7 @@ describe('keyboard only', () => {
   it('the circulator enters the readings and confirms the sizes without a mouse', async () => {
     const circ = (await signInRoles(baseURL, f, TEST_PASSWORD, ['circulator'])).circulator!
     const id = await createCase(circ, f, { procedure: 'short_nail', side: 'right' })
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.circulator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.circulator.email, TEST_PASSWORD)
     await open(page, `/cases/${id}`)
 
     for (const [heading, value] of [['Last reamer', '11.5'], ['Nail length', '205'], ['Neck-shaft angle', '131'], ['Head element reading', '95']] as const) {
@@ -87,9 +78,7 @@ describe('keyboard only', () => {
     const as = await signInRoles(baseURL, f, TEST_PASSWORD, ['circulator', 'scrub'])
     const id = await createCase(as.circulator!, f, { procedure: 'short_nail', side: 'right' })
     const nail = shelf.find((s) => s.kind === 'nail' && s.type === 'short' && s.d === 11 && s.len === 200)
-    const { context, page } = await newPage(browser, baseURL, 'phone')
-    await signIn(page, f.users.scrub.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'phone', f.users.scrub.email, TEST_PASSWORD)
     await open(page, `/cases/${id}/implants`)
 
     // the scanner field has the focus when the page opens, as a wedge scanner needs; the scanner "types" and sends Enter

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import type { Browser, Page } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import type { Browser } from 'playwright-core'
+import { keyInReading, launchBrowser, open, openSignedIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { createCase } from '../helpers/cases'
@@ -20,40 +20,28 @@ afterAll(async () => {
   await closeTestDb()
 })
 
-async function keyIn(page: Page, value: string, expectSaved = true) {
-  const pad = page.getByTestId('number-pad')
-  for (const ch of value) {
-    await pad.getByRole('button', { name: ch === '.' ? '.' : ch, exact: true }).click()
-  }
-  await page.getByTestId('save-reading').click()
-  // wait for the save to land, as a person waits for the tick
-  if (expectSaved) await page.getByTestId('saved').filter({ hasText: `Saved ${value}` }).waitFor({ timeout: 5000 }).catch(async (e) => { await page.screenshot({ path: '.cache/failed-reading.png' }); throw e })
-}
-
 describe('readings on the tablet', () => {
   it('a circulator enters a full set of readings and sees the recommendation with its warning', async () => {
     const api = clientFrom(baseURL)
     await api.login(f.users.circulator.email, TEST_PASSWORD)
     const id = await createCase(api, f, { procedure: 'short_nail', side: 'right' })
 
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.circulator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.circulator.email, TEST_PASSWORD)
     await open(page, `/cases/${id}`)
     await page.getByRole('heading', { name: 'Last reamer' }).waitFor()
 
     // a value out of range says what to fix, beside the field
-    await keyIn(page, '25', false)
+    await keyInReading(page, '25', { waitSaved: false })
     expect(await page.getByTestId('reading-error').textContent()).toBe('Last reamer must be between 7 mm and 20 mm.')
     await page.getByRole('button', { name: 'Delete last digit' }).click()
     await page.getByRole('button', { name: 'Delete last digit' }).click()
 
     // a wide canal with a short nail: 16.5 − 1.0 = 15.5 → the largest stocked 12 mm, and a caution (Mahmoud 2025)
-    await keyIn(page, '16.5')
+    await keyInReading(page, '16.5')
     await page.getByRole('heading', { name: 'Nail length' }).waitFor()
-    await keyIn(page, '205')
+    await keyInReading(page, '205')
     await page.getByRole('heading', { name: 'Neck-shaft angle' }).waitFor()
-    await keyIn(page, '128')
+    await keyInReading(page, '128')
     await page.getByRole('heading', { name: 'Head element reading' }).waitFor()
 
     // the panel follows the step: back on a nail reading it shows the nail
@@ -67,7 +55,7 @@ describe('readings on the tablet', () => {
     expect(await warning.textContent()).toMatch(/15/)
 
     await page.getByTestId('step-head_element_length:0').click()
-    await keyIn(page, '97')
+    await keyInReading(page, '97')
     await page.getByRole('heading', { name: 'Planned compression' }).waitFor()
     await page.getByRole('group', { name: 'Common compression choices' }).getByRole('button', { name: '5 mm' }).click()
     await page.getByTestId('save-reading').click()
@@ -76,7 +64,7 @@ describe('readings on the tablet', () => {
     // 97 − 5 = 92 → 90 mm, never rounded up (Wheeless)
     expect(await page.getByTestId('proposal-head_element-0').getByTestId('proposed-size').textContent()).toContain('90 mm')
     await page.getByTestId('step-distal_depth:1').click()
-    await keyIn(page, '39')
+    await keyInReading(page, '39')
     await page.getByTestId('step-distal_depth:1').click()
     await page.getByTestId('proposal-distal_screw-1').getByTestId('proposed-size').waitFor()
     expect(await page.getByTestId('proposal-distal_screw-1').getByTestId('proposed-size').textContent()).toContain('40 mm')
@@ -86,7 +74,7 @@ describe('readings on the tablet', () => {
 
     // a correction keeps the first value in the history
     await page.getByTestId('step-nail_length:0').click()
-    await keyIn(page, '180')
+    await keyInReading(page, '180')
     await page.getByTestId('step-nail_length:0').click()
     const hist = await page.getByTestId('reading-history').textContent()
     expect(hist).toMatch(/205 mm.*corrected/)

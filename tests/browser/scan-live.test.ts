@@ -1,8 +1,8 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
-import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { standardShelf } from '../helpers/catalog'
+import { newPage, open, signIn } from '../helpers/browser'
+import { testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { closeSuite, openSuite, type Shelf } from '../helpers/suite'
 import { confirm, createCase, gs1Scan, reading } from '../helpers/cases'
 import { clientFrom } from '../helpers/http'
 import { makeSymbolPng } from '../helpers/barcodes'
@@ -10,17 +10,10 @@ import { makeSymbolPng } from '../helpers/barcodes'
 const baseURL = inject('baseURL')
 let browser: Browser
 let f: TestFacility
-let shelf: Awaited<ReturnType<typeof standardShelf>>
+let shelf: Shelf
 
-beforeAll(async () => {
-  browser = await launchBrowser()
-  f = await makeFacility()
-  shelf = await standardShelf(f)
-})
-afterAll(async () => {
-  await browser?.close()
-  await closeTestDb()
-})
+beforeAll(async () => { ({ browser, f, shelf } = await openSuite()) })
+afterAll(() => closeSuite(browser))
 
 describe('scanning on the phone, seen on the tablet', () => {
   it('a scan typed into the scrub’s scanner field appears on the circulator’s page within a second', async () => {

@@ -2,26 +2,19 @@ import { existsSync, readFileSync } from 'node:fs'
 import { createHash } from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
-import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { standardShelf } from '../helpers/catalog'
+import { newPage, open, openSignedIn, signIn } from '../helpers/browser'
+import { testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { closeSuite, openSuite, type Shelf } from '../helpers/suite'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
 import { clientFrom } from '../helpers/http'
 
 const baseURL = inject('baseURL')
 let browser: Browser
 let f: TestFacility
-let shelf: Awaited<ReturnType<typeof standardShelf>>
+let shelf: Shelf
 
-beforeAll(async () => {
-  browser = await launchBrowser()
-  f = await makeFacility()
-  shelf = await standardShelf(f)
-})
-afterAll(async () => {
-  await browser?.close()
-  await closeTestDb()
-})
+beforeAll(async () => { ({ browser, f, shelf } = await openSuite()) })
+afterAll(() => closeSuite(browser))
 
 describe('the surgeon signs on the tablet', () => {
   it('closes, signs with the password, and downloads the signed PDF', async () => {
@@ -47,9 +40,7 @@ describe('the surgeon signs on the tablet', () => {
     await c.page.getByTestId('sign').waitFor()
     await c.context.close()
 
-    const { context, page } = await newPage(browser, baseURL, 'tablet')
-    await signIn(page, f.users.surgeon.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.surgeon.email, TEST_PASSWORD)
     await open(page, `/cases/${id}/record`)
     await page.getByTestId('sign-form').waitFor()
     // a wrong password is refused on the form

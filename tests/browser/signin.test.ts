@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser } from 'playwright-core'
-import { hydrated, launchBrowser, newPage, signIn } from '../helpers/browser'
+import { hydrated, launchBrowser, newPage, openSignedIn, signIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 
 const baseURL = inject('baseURL')
@@ -46,9 +46,7 @@ describe('sign-in page', () => {
   })
 
   it.each(['circulator', 'scrub', 'surgeon', 'coordinator', 'admin'] as const)('%s signs in, sees their home, signs out', async (role) => {
-    const { context, page } = await newPage(browser, baseURL, role === 'scrub' ? 'phone' : role === 'coordinator' || role === 'admin' ? 'desktop' : 'tablet')
-    await signIn(page, f.users[role].email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, role === 'scrub' ? 'phone' : role === 'coordinator' || role === 'admin' ? 'desktop' : 'tablet', f.users[role].email, TEST_PASSWORD)
     const intro = page.getByTestId('role-intro')
     await intro.waitFor()
     expect(await intro.textContent()).toContain(role[0]!.toUpperCase() + role.slice(1))

@@ -1,7 +1,7 @@
 import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn, VIEWPORTS } from '../helpers/browser'
+import { VIEWPORTS, launchBrowser, open, openSignedIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, tag, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { createCase, gs1Scan, reading, scan } from '../helpers/cases'
@@ -56,9 +56,7 @@ async function shoot(page: Page, name: string) {
 
 describe('the coordinator traces a lot and runs its recall', () => {
   it('searches the lot, starts a recall, imports its CSV after a preview, follows each patient up and closes it', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'desktop')
-    await signIn(page, f.users.coordinator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'desktop', f.users.coordinator.email, TEST_PASSWORD)
 
     // --- Trace: every patient with the lot
     await open(page, '/trace')
@@ -193,9 +191,7 @@ describe('the coordinator traces a lot and runs its recall', () => {
   }, 120_000)
 
   it('a surgeon tracing the same lot sees only their own patients, without the surgeon picker', async () => {
-    const { context, page } = await newPage(browser, baseURL, 'desktop')
-    await signIn(page, f.users.surgeon.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, baseURL, 'desktop', f.users.surgeon.email, TEST_PASSWORD)
     await open(page, `/trace?lot=${LOT}`)
     expect(await page.getByTestId('trace-count').textContent()).toBe('2 patients, 2 implants')
     expect((await page.getByTestId('row-mrn').allTextContents()).sort()).toEqual([`MRN ${PATIENTS[0]!.mrn}`, `MRN ${PATIENTS[1]!.mrn}`].sort())

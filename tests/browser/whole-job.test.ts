@@ -6,9 +6,9 @@
 // The label images are made by bwip-js (an encoder independent of our parser) and read by the page's own decoder.
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
-import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { standardShelf } from '../helpers/catalog'
+import { keyInReading, newPage, open, signIn } from '../helpers/browser'
+import { testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
+import { closeSuite, openSuite, type Shelf } from '../helpers/suite'
 import { createCase, gs1Scan, newCaseBody } from '../helpers/cases'
 import { signInRoles } from '../helpers/http'
 import { makeSymbolPng } from '../helpers/barcodes'
@@ -16,24 +16,10 @@ import { makeSymbolPng } from '../helpers/barcodes'
 const baseURL = inject('baseURL')
 let browser: Browser
 let f: TestFacility
-let shelf: Awaited<ReturnType<typeof standardShelf>>
+let shelf: Shelf
 
-beforeAll(async () => {
-  browser = await launchBrowser()
-  f = await makeFacility()
-  shelf = await standardShelf(f)
-})
-afterAll(async () => {
-  await browser?.close()
-  await closeTestDb()
-})
-
-async function keyIn(page: Page, value: string) {
-  const pad = page.getByTestId('number-pad')
-  for (const ch of value) await pad.getByRole('button', { name: ch, exact: true }).click()
-  await page.getByTestId('save-reading').click()
-  await page.getByTestId('saved').filter({ hasText: `Saved ${value}` }).waitFor()
-}
+beforeAll(async () => { ({ browser, f, shelf } = await openSuite()) })
+afterAll(() => closeSuite(browser))
 
 async function wedgeScan(page: Page, text: string) {
   await page.getByTestId('wedge').fill(text)
@@ -66,17 +52,17 @@ describe('the whole job', () => {
     await c.getByRole('link', { name: new RegExp(body.patient.familyName) }).first().click()
     await c.waitForURL((u) => u.pathname === `/cases/${id}`)
     await c.getByRole('heading', { name: 'Last reamer' }).waitFor()
-    await keyIn(c, '11.5')
+    await keyInReading(c, '11.5')
     await c.getByRole('heading', { name: 'Nail length' }).waitFor()
-    await keyIn(c, '205')
-    await keyIn(c, '131')
+    await keyInReading(c, '205')
+    await keyInReading(c, '131')
     await c.getByRole('heading', { name: 'Head element reading' }).waitFor()
-    await keyIn(c, '95')
+    await keyInReading(c, '95')
     await c.getByRole('heading', { name: 'Planned compression' }).waitFor()
     await c.getByRole('group', { name: 'Common compression choices' }).getByRole('button', { name: '5 mm' }).click()
     await c.getByTestId('save-reading').click()
     await c.getByRole('heading', { name: 'Distal screw 1 depth' }).waitFor()
-    await keyIn(c, '38')
+    await keyInReading(c, '38')
 
     // --- circulator: Sizes, each proposal confirmed (the nail after the aiming guide is checked)
     await open(c, `/cases/${id}/sizes`)

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Browser } from 'playwright-core'
 import { startServer, type RunningServer } from '../helpers/server-setup'
-import { launchBrowser, newPage, open, signIn } from '../helpers/browser'
+import { keyInReading, launchBrowser, open, openSignedIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { addItems } from '../helpers/catalog'
 import { clientFrom } from '../helpers/http'
@@ -29,9 +29,7 @@ describe('the scrub’s phone loses the network', () => {
     const id = await createCase(api, f)
     const [set] = await addItems(f, [{ kind: 'set_screw', lot: 'OFF-LOT', onHand: 50 }])
 
-    const { context, page } = await newPage(browser, server.url, 'phone')
-    await signIn(page, f.users.scrub.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, server.url, 'phone', f.users.scrub.email, TEST_PASSWORD)
     await open(page, `/cases/${id}/implants`)
     await page.getByTestId('log-empty').waitFor()
 
@@ -65,30 +63,22 @@ describe('the scrub’s phone loses the network', () => {
 })
 
 describe('the circulator’s tablet loses the network', () => {
-  async function keyIn(page: import('playwright-core').Page, value: string) {
-    const pad = page.getByTestId('number-pad')
-    for (const ch of value) await pad.getByRole('button', { name: ch, exact: true }).click()
-    await page.getByTestId('save-reading').click()
-  }
-
   it('readings entered offline wait on the device, survive a reload, land once; one refused later is shown, not dropped', async () => {
     const api = clientFrom(server.url)
     await api.login(f.users.circulator.email, TEST_PASSWORD)
     const id = await createCase(api, f, { procedure: 'short_nail', side: 'right' })
     const other = await createCase(api, f, { procedure: 'short_nail', side: 'left' })
 
-    const { context, page } = await newPage(browser, server.url, 'tablet')
-    await signIn(page, f.users.circulator.email, TEST_PASSWORD)
-    await page.waitForURL((u) => u.pathname === '/')
+    const { context, page } = await openSignedIn(browser, server.url, 'tablet', f.users.circulator.email, TEST_PASSWORD)
     await open(page, `/cases/${id}`)
     await page.getByRole('heading', { name: 'Last reamer' }).waitFor()
 
     await context.setOffline(true)
-    await keyIn(page, '11.5')
+    await keyInReading(page, '11.5', { waitSaved: false })
     // kept on the device, and the list moves on as after a save
     await page.getByTestId('saved').filter({ hasText: 'Saved 11.5 mm on this device' }).waitFor()
     await page.getByRole('heading', { name: 'Nail length' }).waitFor()
-    await keyIn(page, '205')
+    await keyInReading(page, '205', { waitSaved: false })
     await page.getByRole('heading', { name: 'Neck-shaft angle' }).waitFor()
     await page.getByTestId('pending-count').filter({ hasText: '2 pending' }).waitFor()
     expect(await page.getByTestId('readings-waiting').textContent()).toMatch(/2 readings wait on this device/)
@@ -115,7 +105,7 @@ describe('the circulator’s tablet loses the network', () => {
     await open(page, `/cases/${other}`)
     await page.getByRole('heading', { name: 'Last reamer' }).waitFor()
     await context.setOffline(true)
-    await keyIn(page, '12')
+    await keyInReading(page, '12', { waitSaved: false })
     await page.getByTestId('saved').filter({ hasText: 'on this device' }).waitFor()
     await testDb().updateTable('cases').set({ status: 'closed' }).where('id', '=', other).execute() // what a close from another device leaves
     await context.setOffline(false)

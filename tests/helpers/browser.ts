@@ -44,3 +44,20 @@ export async function open(page: Page, path: string): Promise<void> {
   await page.goto(path)
   await hydrated(page)
 }
+
+/** A new context on `device`, signed in through the form, on Today. */
+export async function openSignedIn(browser: Browser, baseURL: string, device: keyof typeof VIEWPORTS, email: string, password: string):
+  Promise<{ context: BrowserContext; page: Page }> {
+  const p = await newPage(browser, baseURL, device)
+  await signIn(p.page, email, password)
+  await p.page.waitForURL((u) => u.pathname === '/')
+  return p
+}
+
+/** Key a reading in on the number pad, as a gloved finger does, and save it; then wait for its tick unless told not to. */
+export async function keyInReading(page: Page, value: string, opts: { waitSaved?: boolean } = {}): Promise<void> {
+  const pad = page.getByTestId('number-pad')
+  for (const ch of value) await pad.getByRole('button', { name: ch, exact: true }).click()
+  await page.getByTestId('save-reading').click()
+  if (opts.waitSaved !== false) await page.getByTestId('saved').filter({ hasText: `Saved ${value}` }).waitFor({ timeout: 5000 })
+}
