@@ -25,7 +25,7 @@ async function standing(user: User, loggedInAt: number): Promise<Standing> {
   return loggedInAt < hit.validAfter ? 'superseded' : 'ok'
 }
 
-/** Forget what this instance cached about a person (after their role, state or password changed). */
+/** Forget what this instance cached about a person, so a password reset takes effect here at once (other instances within 5 s). */
 export function forgetStanding(userId: number): void {
   activeCache.delete(userId)
 }
