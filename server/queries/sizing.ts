@@ -92,7 +92,7 @@ export async function caseSizing(db: Db, caseId: number) {
       })
       out.decisionStale = !!d && d.proposed_item_id !== (r.ideal ? Number(r.ideal.id) : null)
     } catch (e) {
-      if (e instanceof SizingInputError) out.error = { field: e.field, message: e.message }
+      if (e instanceof SizingInputError) out.error = { field: e.field, message: e.plain }
       else throw e
     }
     return out
@@ -122,7 +122,7 @@ export async function caseSizing(db: Db, caseId: number) {
       }, rules)
       tad = { ...t, limitMm: rules.tadLimitMm, warning: tadFinding(t, rules) }
     } catch (e) {
-      if (e instanceof SizingInputError) tadError = { field: e.field, message: e.message }
+      if (e instanceof SizingInputError) tadError = { field: e.field, message: e.plain }
       else throw e
     }
   }

@@ -130,10 +130,14 @@ export const SOURCES = Object.freeze({
 
 export class SizingInputError extends Error {
   readonly field: string
+  /** The message without the field key, for a form that shows it beside the field. */
+  readonly plain: string
   constructor(field: string, message: string) {
-    super(message)
+    // The key in the message lets a caller outside a form see which input to fix.
+    super(`${message} (${field})`)
     this.name = 'SizingInputError'
     this.field = field
+    this.plain = message
     Object.setPrototypeOf(this, new.target.prototype)
   }
 }

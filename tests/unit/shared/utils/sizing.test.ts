@@ -74,7 +74,8 @@ function expectInputError(fn: () => unknown, field: string) {
   expect(caught).toBeInstanceOf(SizingInputError)
   expect(caught).toBeInstanceOf(Error)
   expect((caught as SizingInputError).field).toBe(field)
-  expect((caught as SizingInputError).message.length).toBeGreaterThan(10)
+  expect((caught as SizingInputError).message).toContain(`(${field})`)
+  expect((caught as SizingInputError).plain.length).toBeGreaterThan(10)
 }
 
 // ---------------------------------------------------------------------------------------
