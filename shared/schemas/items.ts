@@ -24,7 +24,7 @@ const wasteRules = (v: { disposition?: string; wasteReason?: string; wasteNote?:
   }
 }
 
-/** Manual entry when a pack has no readable barcode: lot (or serial) and expiry are required. */
+/** Manual entry when a pack has no readable barcode: lot and expiry are required, the serial when the label has one. */
 export const ManualEntry = z.object({
   itemId: z.coerce.number().int().positive().optional(),
   gtin: z.string().trim().regex(/^\d{8}$|^\d{12,14}$/, 'A GTIN has 8, 12, 13 or 14 digits.').optional(),
@@ -35,7 +35,7 @@ export const ManualEntry = z.object({
 }).superRefine((m, ctx) => {
   if (!m.expiry) ctx.addIssue({ code: 'custom', path: ['expiry'], message: 'Enter the expiry date from the label (YYYY-MM-DD).' })
   if (!m.itemId && !m.gtin) ctx.addIssue({ code: 'custom', path: ['gtin'], message: 'Enter the GTIN from the label, or choose the item.' })
-  if (!m.lot && !m.serial) ctx.addIssue({ code: 'custom', path: ['lot'], message: 'Enter the lot (or the serial) from the label.' })
+  if (!m.lot) ctx.addIssue({ code: 'custom', path: ['lot'], message: 'Enter the lot from the label.' })
 })
 
 export const ScanBody = z.object({
