@@ -1,4 +1,5 @@
 import { randomUUID } from 'node:crypto'
+import { sql } from 'kysely'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
@@ -108,6 +109,19 @@ describe('scanning packs into the log', () => {
     expect((await scan(as.scrub!, id, gs1Scan(he.gtin, { expiry: '2030-12-31', lot: 'BADLOT', serial: serial() }))).status).toBe(201)
   })
 
+  it('a recall naming serials refuses those units only, whatever their lot', async () => {
+    // 21 CFR 801.3: a serial identifies one unit, so a notice may name units rather than lots
+    const { id } = await readyCase()
+    const he = item((s) => s.kind === 'head_element' && s.len === 90)
+    const bad = serial()
+    const rec = await testDb().insertInto('recalls').values({ title: 'Unit notice', notice_ref: 'N-2', fda_class: 'I' }).returning('id').executeTakeFirstOrThrow()
+    await testDb().insertInto('recall_items').values({ recall_id: rec.id, di: he.gtin, serial: bad }).execute()
+    const r = await scan(as.scrub!, id, gs1Scan(he.gtin, { expiry: '2030-12-31', lot: `L${he.id}`, serial: bad }))
+    expect(r.status).toBe(422)
+    expect(r.body).toMatchObject({ result: 'refused', code: 'recalled' })
+    expect((await scan(as.scrub!, id, gs1Scan(he.gtin, { expiry: '2030-12-31', lot: `L${he.id}`, serial: serial() }))).status).toBe(201)
+  })
+
   it('the same serial already implanted in anyone is refused with 409', async () => {
     const a = await readyCase()
     const b = await readyCase()
@@ -128,6 +142,20 @@ describe('scanning packs into the log', () => {
     expect(r.body).toMatchObject({ result: 'check', code: 'size_differs' })
     expect(r.body.message).toBe('Size 100 mm differs from the confirmed 90 mm. Check with the surgeon.')
     expect((await as.circulator!.get(`/api/cases/${id}/items`)).body.totals.toAcknowledge).toBe(1)
+  })
+
+  it.each([
+    ['diameter', { d: 10, angle: 130 }, '10 × 380 mm, 130°, left'],
+    ['angle', { d: 11, angle: 125 }, '11 × 380 mm, 125°, left'],
+  ])('a nail differing only in %s is a check that must be acknowledged', async (_what, p, named) => {
+    // common practice: every dimension on the pack is compared with the confirmed size, not only the length
+    const { id } = await readyCase()
+    const nail = item((s) => s.kind === 'nail' && s.side === 'left' && s.len === 380 && s.d === p.d && s.angle === p.angle)
+    const r = await scan(as.scrub!, id, gs1Scan(nail.gtin, { expiry: '2030-12-31', lot: `L${nail.id}`, serial: serial() }))
+    expect(r.status).toBe(201)
+    expect(r.body.checks.map((c: any) => c.code)).toContain('size_differs')
+    expect(r.body.checks.find((c: any) => c.code === 'size_differs').message)
+      .toBe(`Size ${named} differs from the confirmed 11 × 380 mm, 130°, left. Check with the surgeon.`)
   })
 
   it('a wrong-side nail is a check naming both sides (The Joint Commission UP.01.01.01)', async () => {
@@ -169,12 +197,41 @@ describe('scanning packs into the log', () => {
     expect(list.totals).toMatchObject({ wasted: 1, implanted: 0, wasteCost: 100 })
   })
 
-  it('manual entry needs the lot (or serial) and expiry, and is marked as manual', async () => {
+  it('hardware removed from the patient is logged as explanted: its own serial again, past expiry, and no stock taken', async () => {
+    // common practice: a device removed from the patient is documented with what its label or record says;
+    // it came out of a body, not off the shelf, so neither expiry nor the shelf applies.
+    const he = item((s) => s.kind === 'head_element' && s.len === 90)
+    const sn = serial()
+    const first = await readyCase()
+    expect((await scan(as.scrub!, first.id, gs1Scan(he.gtin, { expiry: '2030-12-31', lot: `L${he.id}`, serial: sn }))).status).toBe(201)
+    const { id } = await readyCase()
+    const before = await onHand(he.stockLineId)
+    const out = await scan(as.scrub!, id, gs1Scan(he.gtin, { expiry: '2020-01-31', lot: `L${he.id}`, serial: sn }), { disposition: 'explanted' })
+    expect(out.status).toBe(201)
+    expect(out.body.item).toMatchObject({ disposition: 'explanted', serial: sn, expiry: '2020-01-31' })
+    expect(await onHand(he.stockLineId)).toBe(before)
+    const list = (await as.circulator!.get(`/api/cases/${id}/items`)).body
+    expect(list.totals).toMatchObject({ implanted: 0, wasted: 0, explanted: 1 })
+    // the same expired label as a pack to implant is still refused
+    const implant = await scan(as.scrub!, id, gs1Scan(he.gtin, { expiry: '2020-01-31', lot: `L${he.id}`, serial: serial() }))
+    expect(implant.status).toBe(422)
+    expect(implant.body).toMatchObject({ result: 'refused', code: 'expired' })
+  })
+
+  it('manual entry needs the lot and expiry, and is marked as manual', async () => {
     const { id } = await readyCase()
     const he = item((s) => s.kind === 'head_element' && s.len === 90)
     const missing = await as.circulator!.post(`/api/cases/${id}/items`, { source: 'manual', manual: { gtin: he.gtin }, clientKey: randomUUID() })
     expect(missing.status).toBe(400)
     expect(Object.keys(missing.body.data.fields)).toEqual(expect.arrayContaining(['manual.expiry', 'manual.lot']))
+    // a serial alone is not enough: a lot recall searches the lot typed from the label
+    const serialOnly = await as.circulator!.post(`/api/cases/${id}/items`, { source: 'manual', manual: { gtin: he.gtin, serial: 'S-ONLY', expiry: '2030-12-31' }, clientKey: randomUUID() })
+    expect(serialOnly.status).toBe(400)
+    expect(serialOnly.body.data.fields['manual.lot']).toBe('Enter the lot from the label.')
+    // and the database holds the same rule for any other path
+    await expect(sql`INSERT INTO case_items (case_id, source, disposition, serial, expiry, client_key, recorded_by)
+      SELECT ${Number(id)}, 'manual', 'implanted', 'S-SQL', '2030-12-31', ${randomUUID()}, min(id) FROM users`
+      .execute(testDb())).rejects.toThrow(/case_items_manual_lot_expiry/)
     const badCheck = await as.circulator!.post(`/api/cases/${id}/items`, { source: 'manual', manual: { gtin: he.gtin.slice(0, 13) + ((Number(he.gtin[13]) + 1) % 10), lot: 'X', expiry: '2030-12-31' }, clientKey: randomUUID() })
     expect(badCheck.status).toBe(400)
     const ok = await as.circulator!.post(`/api/cases/${id}/items`, { source: 'manual', manual: { gtin: he.gtin, lot: `L${he.id}`, expiry: '2030-12-31' }, clientKey: randomUUID() })
