@@ -98,7 +98,8 @@ function mailFrom(): string {
 export async function deliverDue(
   db: Db,
   transport: Transporter,
-  opts: { batch?: number; now?: Date; maxAttempts?: number } = {},
+  /** ref: deliver only the messages about one record (e.g. `case:12`), leaving the rest for the next round */
+  opts: { batch?: number; now?: Date; maxAttempts?: number; ref?: string } = {},
 ): Promise<DeliveryResult> {
   const batch = opts.batch ?? 20
   const maxAttempts = opts.maxAttempts ?? 10
@@ -132,6 +133,7 @@ export async function deliverDue(
       .select('id')
       .where('status', '=', 'pending')
       .where('next_attempt_at', '<=', now)
+      .$if(opts.ref !== undefined, (q) => q.where('ref', '=', opts.ref!))
       .orderBy('next_attempt_at')
       .orderBy('id')
       .limit(batch)

@@ -8,6 +8,9 @@ import { clientFrom, type Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
+import { startSmtp, toAddresses } from '../helpers/smtp'
+import { deliverDue } from '../../server/utils/mail'
+import nodemailer from 'nodemailer'
 
 const baseURL = inject('baseURL')
 let f: TestFacility
@@ -135,6 +138,36 @@ describe('signing', () => {
     expect(mail.to_address).toBe(`records-${f.tag}@example.test`)
     const att = (mail.attachments as { filename: string; contentBase64: string }[])[0]!
     expect(Buffer.from(att.contentBase64, 'base64').equals(a.bytes)).toBe(true)
+  })
+
+  it('e-mail: the signing request reaches the surgeon and the signed PDF the records inbox, through a real SMTP server', async () => {
+    // RFC 5321 delivery to a local capturing server standing in for the hospital's mail relay
+    const smtp = await startSmtp()
+    try {
+      const transport = nodemailer.createTransport({ host: '127.0.0.1', port: smtp.port, secure: false, ignoreTLS: true })
+      const { id } = await closedCase()
+      expect(await deliverDue(testDb(), transport, { ref: `case:${id}` })).toMatchObject({ sent: 1, failed: 0 })
+      const request = smtp.messages.at(-1)!
+      expect(toAddresses(request)).toEqual([f.users.surgeon.email])
+      expect(request.subject).toMatch(/sign/i)
+      expect(request.text).toContain(`/cases/${id}/record`)
+
+      expect((await as.surgeon!.post(`/api/cases/${id}/sign`, { password: TEST_PASSWORD })).status).toBe(200)
+      expect(await deliverDue(testDb(), transport, { ref: `case:${id}` })).toMatchObject({ sent: 1, failed: 0 })
+      const filed = smtp.messages.at(-1)!
+      expect(toAddresses(filed)).toEqual([`records-${f.tag}@example.test`])
+      expect(filed.attachments).toHaveLength(1)
+      const att = filed.attachments[0]!
+      expect(att.contentType).toBe('application/pdf')
+      expect(att.filename).toMatch(/\.pdf$/)
+      const served = await pdf(as.surgeon!, `/api/cases/${id}/record.pdf`)
+      expect(Buffer.compare(att.content, served.bytes)).toBe(0)
+      // delivered once each: nothing of this case is left to send
+      expect(await deliverDue(testDb(), transport, { ref: `case:${id}` })).toMatchObject({ sent: 0 })
+      expect(smtp.messages.filter((m) => m.text?.includes(`/cases/${id}/record`) || toAddresses(m).includes(`records-${f.tag}@example.test`))).toHaveLength(2)
+    } finally {
+      await smtp.stop()
+    }
   })
 
   it('an addendum is a new signed version; version 1 stays byte-identical', async () => {
