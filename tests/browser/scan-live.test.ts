@@ -51,8 +51,9 @@ describe('scanning on the phone, seen on the tablet', () => {
     expect(await band.getAttribute('data-result')).toBe('accepted')
     expect(await band.textContent()).toContain('Accepted')
     // the circulator's tablet shows it without a reload
-    await circ.page.getByText('LIVE-1').waitFor({ timeout: 1500 })
-    expect(Date.now() - t0).toBeLessThan(1500)
+    // within a second of the scanner's Enter, the round trip to the server included
+    await circ.page.getByText('LIVE-1').waitFor({ timeout: 1000 })
+    expect(Date.now() - t0).toBeLessThanOrEqual(1000)
     expect(await circ.page.getByTestId('totals').textContent()).toMatch(/1\s*implanted/)
 
     // an expired pack is refused on the phone with what to do, and the log stays as it was
