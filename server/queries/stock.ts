@@ -61,6 +61,13 @@ export async function locationFor(db: Db, locationId: number, facilityId: number
   return loc
 }
 
+/** A theatre a location serves must be one of the facility's own. */
+export async function theatreCheck(db: Db, theatreId: number | null, facilityId: number) {
+  if (theatreId == null) return
+  const t = await db.selectFrom('theatres').select('id').where('id', '=', theatreId).where('facility_id', '=', facilityId).executeTakeFirst()
+  if (!t) throw createError({ statusCode: 400, statusMessage: 'Validation Error', message: 'Choose one of this facility’s theatres.', data: { fields: { theatreId: 'Choose one of this facility’s theatres.' } } })
+}
+
 /** A stock line of the person's facility, locked for a change. */
 export async function lineFor(db: Db, stockLineId: number, facilityId: number) {
   const line = await db.selectFrom('stock_lines as sl').innerJoin('stock_locations as loc', 'loc.id', 'sl.location_id')

@@ -53,3 +53,12 @@ export const ReplenishedBody = z.object({ locationId: z.coerce.number().int().po
 export const UsageQuery = z.object({
   months: z.coerce.number().int().min(1).max(36).default(12),
 })
+
+/** A stock location: the core store, a theatre's nail cart. The code is what a label on the shelf says. */
+export const LocationBody = z.object({
+  code: z.string('Give the location a short code.').trim().toUpperCase()
+    .regex(/^[A-Z0-9][A-Z0-9-]{1,19}$/, 'A code is 2 to 20 letters, digits or dashes, e.g. OR2-CART.'),
+  name: z.string('Name the location.').trim().min(3, 'Name the location, e.g. “Theatre 2 nail cart”.').max(80, 'A name has at most 80 characters.'),
+  theatreId: z.coerce.number().int().positive().nullable().optional(),
+})
+export type LocationBody = z.infer<typeof LocationBody>

@@ -52,7 +52,7 @@ beforeAll(async () => {
 
   Object.assign(ids, {
     'cases/:id': caseId, 'items/:itemId': Number(item.id), 'recalls/:id': recallId, 'patients/:rpId': rp.id, 'stock/:rsId': rs.id,
-    'catalog/items/:id': nail!.id, 'users/:id': target.id,
+    'catalog/items/:id': nail!.id, 'users/:id': target.id, 'locations/:id': f.locationId,
   })
 })
 afterAll(closeTestDb)

@@ -3,6 +3,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { clientFrom, type Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { addItems, gtinCheck, randomGtin, standardShelf } from '../helpers/catalog'
+import { hibcCheckChar } from '../../shared/utils/udi'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
 
 const baseURL = inject('baseURL')
@@ -83,6 +84,45 @@ describe('catalog import', () => {
   })
 })
 
+describe('catalog edit', () => {
+  it('an unused item is corrected whole; once in a case only its words and cost change; audited; roles enforced', async () => {
+    const g = randomGtin()
+    const body = { kind: 'distal_screw', description: 'Test locking screw 40', gtin: g, diameterMm: 5, lengthMm: 40, unitCost: 95, maker: 'Fernhollow Medical (demo)' }
+    const made = await as.coordinator!.post('/api/catalog/items', body)
+    expect(made.status).toBe(201)
+    const id = made.body.id as number
+    // a typo in the length, found before the item was used: fixed in place
+    const fixed = await as.coordinator!.put(`/api/catalog/items/${id}`, { ...body, lengthMm: 42, description: 'Test locking screw 42' })
+    expect(fixed.status).toBe(200)
+    const row = await testDb().selectFrom('catalog_items').select(['length_mm', 'description']).where('id', '=', id).executeTakeFirstOrThrow()
+    expect([Number(row.length_mm), row.description]).toEqual([42, 'Test locking screw 42'])
+    // the same checks as adding: a wrong check digit names the field
+    const badGtin = await as.coordinator!.put(`/api/catalog/items/${id}`, { ...body, gtin: g.slice(0, 13) + ((Number(g[13]) + 1) % 10) })
+    expect(badGtin.status).toBe(400)
+    expect(badGtin.body.data.fields.gtin).toMatch(/check digit/)
+
+    // used in a case: the record says 42 mm, so the size stays 42 mm
+    await testDb().updateTable('catalog_items').set({ length_mm: 42 }).where('id', '=', id).execute()
+    const caseId = await createCase(as.circulator!, f)
+    await testDb().insertInto('case_items').values({
+      case_id: caseId, item_id: id, di: g, issuer: 'GS1', lot: 'EDIT-LOT', expiry: '2030-12-31', source: 'wedge', disposition: 'implanted',
+      client_key: randomUUID(), recorded_by: f.users.scrub.id,
+    }).execute()
+    const sizeChange = await as.coordinator!.put(`/api/catalog/items/${id}`, { ...body, lengthMm: 44, description: 'Test locking screw 42' })
+    expect(sizeChange.status).toBe(409)
+    expect(sizeChange.body.message).toMatch(/retire it and add the right item/i)
+    expect(sizeChange.body.data.fields).toEqual({ lengthMm: 'Fixed: the item is in a case record.' })
+    const words = await as.admin!.put(`/api/catalog/items/${id}`, { ...body, lengthMm: 42, description: 'Locking screw 5.0 × 42 mm', unitCost: 99.5 })
+    expect(words.status).toBe(200)
+    const after = await testDb().selectFrom('catalog_items').select(['length_mm', 'description', 'unit_cost']).where('id', '=', id).executeTakeFirstOrThrow()
+    expect([Number(after.length_mm), after.description, Number(after.unit_cost)]).toEqual([42, 'Locking screw 5.0 × 42 mm', 99.5])
+    const audit = await testDb().selectFrom('audit_log').select(['action', 'actor_id']).where('entity', '=', 'catalog_item').where('entity_id', '=', String(id)).orderBy('id').execute()
+    expect(audit.map((a) => a.action)).toEqual(['catalog.create', 'catalog.update', 'catalog.update'])
+    for (const role of ['circulator', 'scrub', 'surgeon']) expect((await as[role]!.put(`/api/catalog/items/${id}`, body)).status, role).toBe(403)
+    expect((await as.coordinator!.put('/api/catalog/items/999999999', body)).status).toBe(404)
+  })
+})
+
 describe('stock', () => {
   it('receiving by scan creates the right line with lot and expiry; again adds to it; same key once', async () => {
     const [item] = await addItems(f, [{ kind: 'set_screw', onHand: 0, lot: 'OLD' }])
@@ -139,15 +179,91 @@ describe('stock', () => {
     expect(mail[0]!.subject).toMatch(/Below par/)
   })
 
-  it('expiring-soon: a line expiring in 30 days is in the 30-day list; one in 31 days only in the 60-day list', async () => {
-    const day = (n: number) => new Date(Date.now() + n * 86_400_000).toISOString().slice(0, 10)
-    const [a, b] = await addItems(f, [{ kind: 'end_cap', lot: 'EXP30', expiry: day(30), onHand: 2 }, { kind: 'end_cap', lot: 'EXP31', expiry: day(31), onHand: 2 }])
-    const in30 = (await as.coordinator!.get('/api/stock/lines?expiringWithin=30')).body.map((x: any) => x.id)
-    const in60 = (await as.coordinator!.get('/api/stock/lines?expiringWithin=60')).body.map((x: any) => x.id)
-    expect(in30).toContain(a!.stockLineId)
-    expect(in30).not.toContain(b!.stockLineId)
-    expect(in60).toEqual(expect.arrayContaining([a!.stockLineId, b!.stockLineId]))
-    expect((await as.coordinator!.get('/api/stock/lines?expiringWithin=45')).status).toBe(400)
+  it('expiring-soon: each window holds the lines expiring up to and including its last day, and not the day after', async () => {
+    // common practice: "expires within N days" counts today + N as inside (a use-by date is good through that day)
+    const g = await makeFacility()
+    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
+    const day = (n: number) => new Date(Date.now() + n * 86_400_000).toISOString().slice(0, 10) // the test facility keeps UTC
+    const edges = [30, 31, 60, 61, 90, 91]
+    const rows = await addItems(g, edges.map((n) => ({ kind: 'end_cap' as const, lot: `EXP${n}`, expiry: day(n), onHand: 2 })))
+    const lineOf = new Map(edges.map((n, i) => [n, rows[i]!.stockLineId]))
+    for (const window of [30, 60, 90]) {
+      const ids: number[] = (await co.get(`/api/stock/lines?expiringWithin=${window}`)).body.map((x: any) => x.id)
+      for (const n of edges) expect(ids.includes(lineOf.get(n)!), `${n} days in the ${window}-day list`).toBe(n <= window)
+    }
+    // an empty line is not on the shelf to expire
+    await testDb().updateTable('stock_lines').set({ on_hand: 0 }).where('id', '=', lineOf.get(30)!).execute()
+    expect((await co.get('/api/stock/lines?expiringWithin=30')).body.map((x: any) => x.id)).not.toContain(lineOf.get(30))
+    expect((await co.get('/api/stock/lines?expiringWithin=45')).status).toBe(400)
+  })
+
+  it('receiving an HIBCC-labelled pack fills item, lot and expiry from the secondary data', async () => {
+    // HIBC LIC 2.6: primary +LIC PCN UoM, secondary /$$3 YYMMDD lot, one mod-43 check character (standards.md A2)
+    const lic = 'A' + String(Date.now()).slice(-3)
+    const di = `${lic}RCVHIBC1`
+    const made = await as.coordinator!.post('/api/catalog/items', { kind: 'set_screw', description: 'Test HIBC set screw', hibccDi: di })
+    expect(made.status).toBe(201)
+    const body = `+${di}/$$3301130HLOT7`
+    const scanText = body + hibcCheckChar(body)
+    const r = await as.coordinator!.post('/api/stock/receive', { scan: scanText, locationId: f.locationId, count: 2, clientKey: randomUUID() })
+    expect(r.status).toBe(201)
+    expect(r.body).toMatchObject({ item: 'Test HIBC set screw', lot: 'HLOT7', expiry: '2030-11-30', received: 2 })
+    // a wrong check character is refused as the scan, nothing received
+    const bad = await as.coordinator!.post('/api/stock/receive', { scan: body + (hibcCheckChar(body) === 'A' ? 'B' : 'A'), locationId: f.locationId, count: 2, clientKey: randomUUID() })
+    expect(bad.status).toBe(422)
+    expect(bad.body.data.fields.scan).toBeTruthy()
+  })
+
+  it('a count or a transfer that drops a location below par e-mails the coordinator too', async () => {
+    const g = await makeFacility()
+    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
+    const [a, b] = await addItems(g, [{ kind: 'end_cap', lot: 'PAR-A', onHand: 5 }, { kind: 'end_cap', lot: 'PAR-B', onHand: 5 }])
+    const cart = await co.post('/api/stock/locations', { code: 'CART-P', name: 'Par test cart' })
+    expect(cart.status).toBe(201)
+    await co.put('/api/stock/par', { locationId: g.locationId, itemId: a!.id, par: 4 })
+    await co.put('/api/stock/par', { locationId: g.locationId, itemId: b!.id, par: 4 })
+    const lowMail = async () => (await testDb().selectFrom('outbox').select(['subject']).where('kind', '=', 'low_stock').where('to_address', '=', g.users.coordinator.email).orderBy('id').execute()).map((m) => m.subject)
+    // still at par: nothing
+    expect((await co.post('/api/stock/adjust', { stockLineId: a!.stockLineId, count: 4, reason: 'count_correction', clientKey: randomUUID() })).body.lowStock).toBe(false)
+    expect(await lowMail()).toEqual([])
+    const adj = await co.post('/api/stock/adjust', { stockLineId: a!.stockLineId, count: 3, reason: 'damaged', clientKey: randomUUID() })
+    expect(adj.body).toMatchObject({ delta: -1, lowStock: true })
+    const moved = await co.post('/api/stock/transfer', { stockLineId: b!.stockLineId, toLocationId: cart.body.id, count: 2, clientKey: randomUUID() })
+    expect(moved.body.lowStock).toBe(true)
+    const subjects = await lowMail()
+    expect(subjects).toHaveLength(2)
+    expect(subjects[0]).toMatch(/\(3 of 4\)/)
+    expect(subjects[1]).toMatch(/\(3 of 4\)/)
+  })
+
+  it('stock locations are added and changed from the screens; codes are unique per facility; audited; roles enforced', async () => {
+    const g = await makeFacility()
+    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
+    const ad = clientFrom(baseURL); await ad.login(g.users.admin.email, TEST_PASSWORD)
+    const theatre = await testDb().selectFrom('theatres').select('id').where('facility_id', '=', g.facilityId).executeTakeFirstOrThrow()
+    const made = await co.post('/api/stock/locations', { code: 'or1-cart', name: 'Theatre 1 nail cart', theatreId: theatre.id })
+    expect(made.status).toBe(201)
+    const list = (await co.get('/api/stock/locations')).body
+    expect(list.find((l: any) => l.id === made.body.id)).toMatchObject({ code: 'OR1-CART', name: 'Theatre 1 nail cart', theatreId: theatre.id })
+    const twice = await ad.post('/api/stock/locations', { code: 'OR1-CART', name: 'Another' })
+    expect(twice.status).toBe(409)
+    expect(twice.body.data.fields.code).toBe('Already used here.')
+    // another facility may use the same code
+    expect((await as.coordinator!.post('/api/stock/locations', { code: 'OR1-CART', name: 'Their cart' })).status).toBe(201)
+    const bad = await co.post('/api/stock/locations', { code: 'x', name: 'ab' })
+    expect(bad.status).toBe(400)
+    expect(Object.keys(bad.body.data.fields).sort()).toEqual(['code', 'name'])
+    const otherTheatre = await testDb().selectFrom('theatres').select('id').where('facility_id', '=', f.facilityId).executeTakeFirstOrThrow()
+    expect((await co.post('/api/stock/locations', { code: 'OR9', name: 'Wrong theatre', theatreId: otherTheatre.id })).status).toBe(400)
+    const renamed = await ad.patch(`/api/stock/locations/${made.body.id}`, { code: 'OR1-CART', name: 'Theatre 1 trauma cart', theatreId: null })
+    expect(renamed.status).toBe(200)
+    expect((await co.get('/api/stock/locations')).body.find((l: any) => l.id === made.body.id)).toMatchObject({ name: 'Theatre 1 trauma cart', theatreId: null })
+    // a location of another facility is not this one's to change
+    expect((await co.patch(`/api/stock/locations/${f.locationId}`, { code: 'MINE', name: 'Taken over' })).status).toBe(400)
+    const audit = await testDb().selectFrom('audit_log').select('action').where('entity', '=', 'stock_location').where('entity_id', '=', String(made.body.id)).orderBy('id').execute()
+    expect(audit.map((a) => a.action)).toEqual(['stock.location_add', 'stock.location_change'])
+    const c = clientFrom(baseURL); await c.login(g.users.circulator.email, TEST_PASSWORD)
+    expect((await c.post('/api/stock/locations', { code: 'OR2', name: 'Circulator cart' })).status).toBe(403)
   })
 
   it('the shelf grid shows on-hand per diameter × length for each family', async () => {
@@ -161,10 +277,33 @@ describe('stock', () => {
     expect(fam.cells['11x380'].onHand).toBe(3)
   })
 
-  it('usage: implants by size, waste by reason and month, per surgeon', async () => {
-    const r = await as.coordinator!.get('/api/reports/usage?months=3')
+  it('usage: implants by size, waste by reason and month with its cost, per surgeon — counted from the log', async () => {
+    const g = await makeFacility()
+    const shelf = await standardShelf(g)
+    const c = clientFrom(baseURL); await c.login(g.users.circulator.email, TEST_PASSWORD)
+    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
+    const sc = clientFrom(baseURL); await sc.login(g.users.scrub.email, TEST_PASSWORD)
+    const su = clientFrom(baseURL); await su.login(g.users.surgeon.email, TEST_PASSWORD)
+    const id = await createCase(c, g)
+    await reading(c, id, 'head_element_length', 92)
+    const s = (await c.get(`/api/cases/${id}/sizing`)).body
+    await confirm(su, id, 'head_element', s.headElement.ideal.id)
+    const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
+    const ds = shelf.rows.find((r) => r.spec.kind === 'distal_screw' && r.spec.len === 40)!
+    expect((await scan(sc, id, gs1Scan(he.gtin, { expiry: '2030-12-31', lot: `L${he.id}` }))).status).toBe(201)
+    for (const reason of ['wrong_size', 'wrong_size', 'contaminated']) {
+      expect((await scan(sc, id, gs1Scan(ds.gtin, { expiry: '2030-12-31', lot: `L${ds.id}` }), { disposition: 'wasted', wasteReason: reason })).status).toBe(201)
+    }
+    const r = await co.get('/api/reports/usage?months=3')
     expect(r.status).toBe(200)
-    expect(Array.isArray(r.body.bySize)).toBe(true)
-    expect((await as.scrub!.get('/api/reports/usage')).status).toBe(403)
+    expect(r.body.bySize).toEqual([{ label: 'Head element 90 mm', kind: 'head_element', count: 1 }])
+    const month = new Date().toISOString().slice(0, 7) // the test facility keeps UTC
+    expect(r.body.wasteByMonth).toEqual(expect.arrayContaining([
+      { month, reason: 'wrong_size', count: 2, cost: 200 },
+      { month, reason: 'contaminated', count: 1, cost: 100 },
+    ]))
+    expect(r.body.wasteByMonth).toHaveLength(2)
+    expect(r.body.bySurgeon).toEqual([{ surgeon: g.users.surgeon.name, cases: 1, implanted: 1, wasted: 3 }])
+    expect((await sc.get('/api/reports/usage')).status).toBe(403)
   })
 })

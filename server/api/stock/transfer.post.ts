@@ -2,6 +2,8 @@
 import { TransferBody } from '../../../shared/schemas/stock'
 import { facilityFor } from '../../queries/facilities'
 import { addToLine, lineFor, locationFor } from '../../queries/stock'
+import { noteLowStock } from '../../queries/replenishment'
+import { dayInZone } from '../../../shared/utils/dates'
 
 export default defineEventHandler(async (event) => {
   const { user } = await requireRole(event, 'coordinator', 'admin', 'circulator')
@@ -22,7 +24,9 @@ export default defineEventHandler(async (event) => {
       { stock_line_id: from.id, delta: -b.count, reason: 'transfer', moved_by: user.id, client_key: b.clientKey, note: `to line ${to.id}` },
       { stock_line_id: to.id, delta: b.count, reason: 'transfer', moved_by: user.id, note: `from line ${from.id}` },
     ]).execute()
+    // the location the packs left may now be below par
+    const lowStock = await noteLowStock(trx, from.id, dayInZone(Date.now(), f.time_zone))
     await writeAudit(trx, { actorId: user.id, action: 'stock.transfer', entity: 'stock_line', entityId: from.id, details: { to: to.id, count: b.count } }, event)
-    return { ok: true, toStockLineId: to.id, replayed: false }
+    return { ok: true, toStockLineId: to.id, replayed: false, lowStock }
   })
 })

@@ -1,4 +1,4 @@
-import { facilityFor } from '../../queries/facilities'
+import { facilityFor } from '../../../queries/facilities'
 /** GET /api/stock/locations — the facility's stock locations (core store, theatre carts). */
 export default defineEventHandler(async (event) => {
   const { user } = await requireRole(event, 'circulator', 'coordinator', 'admin')
