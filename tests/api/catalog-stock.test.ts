@@ -42,6 +42,26 @@ describe('catalog import', () => {
     expect(await testDb().selectFrom('catalog_items').select('id').where('gtin', 'in', [g1!, g2!, g3!]).execute()).toHaveLength(3)
   })
 
+  it('keeps both identifiers of a label, and an item already in a case keeps its kind and size on re-import', async () => {
+    const [g1] = gtins(1)
+    const lic = 'B' + String(Date.now()).slice(-3)
+    const head = 'Description,Kind,GTIN,HIBCC DI,Diameter,Length,Price\n'
+    const r1 = await as.coordinator!.post('/api/catalog/import', { csv: head + `Test lag screw 100,lag screw,${g1},${lic}LAG1001,10.5,100,300\n`, dryRun: false })
+    expect(r1.body).toMatchObject({ imported: 1, created: 1 })
+    const item = await testDb().selectFrom('catalog_items').select(['id', 'hibcc_di']).where('gtin', '=', g1!).executeTakeFirstOrThrow()
+    expect(item.hibcc_di).toBe(`${lic}LAG1001`)
+    const caseId = await createCase(as.circulator!, f)
+    await testDb().insertInto('case_items').values({
+      case_id: caseId, item_id: item.id, di: g1!, issuer: 'GS1', lot: 'IMP-LOT', expiry: '2030-12-31', source: 'wedge', disposition: 'implanted',
+      client_key: randomUUID(), recorded_by: f.users.scrub.id,
+    }).execute()
+    // the maker's new file says 105 mm and a new price: the price changes, the size of what was implanted does not
+    const r2 = await as.coordinator!.post('/api/catalog/import', { csv: head + `Test lag screw 100 (new name),lag screw,${g1},,10.5,105,320\n`, dryRun: false })
+    expect(r2.body).toMatchObject({ imported: 1, created: 0, updated: 1 })
+    const after = await testDb().selectFrom('catalog_items').select(['length_mm', 'unit_cost', 'description', 'hibcc_di']).where('id', '=', item.id).executeTakeFirstOrThrow()
+    expect([Number(after.length_mm), Number(after.unit_cost), after.description, after.hibcc_di]).toEqual([100, 320, 'Test lag screw 100 (new name)', `${lic}LAG1001`])
+  })
+
   it('a file with bad rows reports each by row number and reason, and imports nothing', async () => {
     const [g1, g2] = gtins(2)
     const badCheck = g2!.slice(0, 13) + ((Number(g2![13]) + 1) % 10)

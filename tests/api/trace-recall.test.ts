@@ -74,6 +74,30 @@ describe('trace', () => {
     expect((await as.coordinator!.get('/api/trace')).body.data.fields.lot).toMatch(/Give a lot/)
   })
 
+  it('filters by GTIN (any length, padded), device identifier, catalog item and surgeon, each narrowing the lot search', async () => {
+    const he = shelf.rows.find((r) => r.spec.kind === 'head_element' && r.spec.len === 90)!
+    const other = shelf.rows.find((r) => r.spec.kind === 'head_element' && r.spec.len === 95)!
+    // GS1 General Specifications §3.3.2: a GTIN-13 is the same number as its GTIN-14 with a leading zero
+    const g14 = await as.coordinator!.get(`/api/trace?gtin=${he.gtin}&lot=${LOT}&lotMatch=prefix`)
+    expect(g14.body.total).toBe(4)
+    if (he.gtin.startsWith('0')) expect((await as.coordinator!.get(`/api/trace?gtin=${he.gtin.slice(1)}&lot=${LOT}&lotMatch=prefix`)).body.total).toBe(4)
+    expect((await as.coordinator!.get(`/api/trace?gtin=${other.gtin}&lot=${LOT}&lotMatch=prefix`)).body.total).toBe(0)
+    expect((await as.coordinator!.get(`/api/trace?di=${he.gtin}&lot=${LOT}`)).body.total).toBe(3)
+    expect((await as.coordinator!.get(`/api/trace?itemId=${he.id}&lot=${LOT}&lotMatch=prefix`)).body.total).toBe(4)
+    expect((await as.coordinator!.get(`/api/trace?itemId=${other.id}&lot=${LOT}&lotMatch=prefix`)).body.total).toBe(0)
+    const bySurgeon = await as.coordinator!.get(`/api/trace?surgeonId=${surgeon2.id}&lot=${LOT}`)
+    expect(bySurgeon.body.total).toBe(1)
+    expect(bySurgeon.body.rows[0].surgeon).toBe(`Second Surgeon ${f.tag}`)
+    // the surgeon alone is a search of its own (every implant of that surgeon's patients)
+    expect((await as.coordinator!.get(`/api/trace?surgeonId=${surgeon2.id}`)).body.total).toBe(1)
+    // a surgeon asking for another surgeon's patients still sees only their own
+    expect((await as.surgeon!.get(`/api/trace?surgeonId=${surgeon2.id}&lot=${LOT}`)).body.total).toBe(0)
+    // a facility-bound coordinator cannot widen the search to another facility
+    const elsewhere = await makeFacility()
+    expect((await as.coordinator!.get(`/api/trace?lot=${LOT}&facilityId=${elsewhere.facilityId}`)).body.total).toBe(3)
+    expect((await as.coordinator!.get('/api/trace?gtin=123')).status).toBe(400)
+  })
+
   it('a surgeon sees only their own patients; a scrub sees none', async () => {
     expect((await as.surgeon!.get(`/api/trace?lot=${LOT}`)).body.total).toBe(2)
     expect((await surgeon2.client.get(`/api/trace?lot=${LOT}`)).body.total).toBe(1)

@@ -6,27 +6,33 @@
 import Papa from 'papaparse'
 import { sql } from 'kysely'
 import { CatalogImportBody } from '../../../shared/schemas/catalog'
-import { createCatalogValidator, guessMapping, mappingProblems, type CatalogItemInput, type CatalogMapping } from '../../../shared/utils/catalog-csv'
+import { CATALOG_PAPA_CONFIG, createCatalogValidator, guessMapping, mappingProblems, type CatalogItemInput, type CatalogMapping } from '../../../shared/utils/catalog-csv'
 import { makerId } from '../../queries/catalog'
 
 export default defineEventHandler(async (event) => {
   const { user } = await requireRole(event, 'coordinator', 'admin')
   const body = await readBodyWith(event, CatalogImportBody)
-  const parsed = Papa.parse<Record<string, string>>(body.csv.replace(/^\uFEFF/, ''), { header: true, skipEmptyLines: 'greedy' })
-  const headers = parsed.meta.fields ?? []
+  const text = body.csv.replace(/^\uFEFF/, '')
+  // the header row first, so the mapping is known before the first data row streams past
+  const headers = (Papa.parse<string[]>(text, { preview: 1 }).data[0] ?? []).map(CATALOG_PAPA_CONFIG.transformHeader)
   const mapping = (body.mapping ?? guessMapping(headers)) as CatalogMapping
   const problems = mappingProblems(mapping)
   const validator = createCatalogValidator(mapping)
   const items: CatalogItemInput[] = []
   const errors = [...problems]
-  if (!problems.length) {
-    parsed.data.forEach((row, i) => {
-      const r = validator.push(row, i + 1)
-      if (r.item) items.push(r.item)
-      errors.push(...r.errors)
-    })
-  }
-  const report = { rows: parsed.data.length, valid: items.length, errors: errors.slice(0, 500), errorCount: errors.length, mapping, headers }
+  let rows = 0
+  // row by row (papaparse's step), so a large file is validated without holding every parsed row at once
+  Papa.parse<Record<string, string>>(text, {
+    ...CATALOG_PAPA_CONFIG,
+    step: (r) => {
+      rows += 1
+      if (problems.length) return
+      const v = validator.push(r.data, rows)
+      if (v.item) items.push(v.item)
+      errors.push(...v.errors)
+    },
+  })
+  const report = { rows, valid: items.length, errors: errors.slice(0, 500), errorCount: errors.length, mapping, headers }
   if (body.dryRun) return { ...report, imported: 0, created: 0, updated: 0 }
   if (errors.length) {
     throw createError({ statusCode: 400, statusMessage: 'Validation Error', message: `${errors.length} ${errors.length === 1 ? 'problem' : 'problems'} in the file; nothing was imported.`, data: report })
@@ -39,7 +45,7 @@ export default defineEventHandler(async (event) => {
       for (const it of chunk) if (it.maker && !makers.has(it.maker)) makers.set(it.maker, await makerId(trx, it.maker))
       const values = chunk.map((it) => ({
         kind: it.kind, description: it.description, maker_id: it.maker ? makers.get(it.maker)! : null, reference: it.reference,
-        gtin: it.gtin, hibcc_di: it.gtin ? null : it.hibcc_di, diameter_mm: it.diameter_mm, length_mm: it.length_mm, angle_deg: it.angle_deg,
+        gtin: it.gtin, hibcc_di: it.hibcc_di, diameter_mm: it.diameter_mm, length_mm: it.length_mm, angle_deg: it.angle_deg,
         side: it.side, nail_type: it.nail_type, material: it.material, unit_cost: it.unit_cost, implant_card: it.implant_card,
       }))
       const withGtin = values.filter((v) => v.gtin)
@@ -49,9 +55,13 @@ export default defineEventHandler(async (event) => {
         if (!rows.length) continue
         const r = await trx.insertInto('catalog_items').values(rows)
           .onConflict((oc) => oc.column(col).doUpdateSet((eb) => ({
-            kind: eb.ref('excluded.kind'), description: eb.ref('excluded.description'), maker_id: eb.ref('excluded.maker_id'), reference: eb.ref('excluded.reference'),
-            diameter_mm: eb.ref('excluded.diameter_mm'), length_mm: eb.ref('excluded.length_mm'), angle_deg: eb.ref('excluded.angle_deg'), side: eb.ref('excluded.side'),
-            nail_type: eb.ref('excluded.nail_type'), material: eb.ref('excluded.material'), unit_cost: eb.ref('excluded.unit_cost'), implant_card: eb.ref('excluded.implant_card'),
+            description: eb.ref('excluded.description'), maker_id: eb.ref('excluded.maker_id'), reference: eb.ref('excluded.reference'),
+            material: eb.ref('excluded.material'), unit_cost: eb.ref('excluded.unit_cost'), implant_card: eb.ref('excluded.implant_card'),
+            // a label with both identifiers: the file adds the other one, never erases it
+            ...(col === 'gtin' ? { hibcc_di: sql`coalesce(excluded.hibcc_di, catalog_items.hibcc_di)` } : {}),
+            // an item already in a case record keeps its kind and size, as in the edit form
+            kind: keepIfUsed('kind'), diameter_mm: keepIfUsed('diameter_mm'), length_mm: keepIfUsed('length_mm'),
+            angle_deg: keepIfUsed('angle_deg'), side: keepIfUsed('side'), nail_type: keepIfUsed('nail_type'),
           })))
           .returning(sql<boolean>`(xmax = 0)`.as('inserted'))
           .execute().catch(async () => null)
@@ -63,3 +73,6 @@ export default defineEventHandler(async (event) => {
     return { ...report, imported: items.length, created, updated: items.length - created }
   })
 })
+
+const keepIfUsed = (col: 'kind' | 'diameter_mm' | 'length_mm' | 'angle_deg' | 'side' | 'nail_type') =>
+  sql<any>`CASE WHEN EXISTS (SELECT 1 FROM case_items u WHERE u.item_id = catalog_items.id) THEN ${sql.ref(`catalog_items.${col}`)} ELSE ${sql.ref(`excluded.${col}`)} END`
