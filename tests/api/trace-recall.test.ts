@@ -240,6 +240,33 @@ describe('FHIR R4 export', () => {
     expect(proc.focalDevice[0].action.coding[0].code).toBe('129336009')
   })
 
+  it('a recall campaign exports its affected Devices with their Patients as a Bundle both validators accept', async () => {
+    const rec = await as.coordinator!.post('/api/recalls', { title: `FHIR export ${f.tag}`, noticeRef: `FX-${f.tag}`, fdaClass: 'II', maker: 'Fernhollow Medical (demo)', receivedOn: new Date().toISOString().slice(0, 10), clientKey: randomUUID() })
+    expect(rec.status).toBe(201)
+    const he = shelf.rows.find((r) => r.spec.kind === 'head_element' && r.spec.len === 90)!
+    expect((await as.coordinator!.post(`/api/recalls/${rec.body.id}/items`, { items: [{ gtin: he.gtin, lot: LOT }] })).status).toBe(201)
+    const r = await as.coordinator!.get(`/api/recalls/${rec.body.id}/fhir`)
+    expect(r.status).toBe(200)
+    expect(r.headers.get('content-type')).toMatch(/application\/fhir\+json/)
+    const bundle = r.body
+    // HL7 FHIR R4 Bundle (type collection), Device.udiCarrier, Device.patient (standards.md A5)
+    expect(errors(bundle)).toEqual([])
+    for (const e of bundle.entry) expect(errors(e.resource), e.resource.resourceType).toEqual([])
+    const res = bundle.entry.map((e: any) => e.resource)
+    const devices = res.filter((x: any) => x.resourceType === 'Device')
+    const patients = res.filter((x: any) => x.resourceType === 'Patient')
+    // the three patients who received the lot, one Device each, each pointing at its Patient in the Bundle
+    expect(devices).toHaveLength(3)
+    expect(patients).toHaveLength(3)
+    expect(new Set(devices.map((d: any) => d.serialNumber))).toEqual(new Set([`${LOT}-0`, `${LOT}-1`, `${LOT}-2`]))
+    const urls = new Set(bundle.entry.filter((e: any) => e.resource.resourceType === 'Patient').map((e: any) => e.fullUrl))
+    for (const d of devices) {
+      expect(d.lotNumber).toBe(LOT)
+      expect(urls.has(d.patient.reference)).toBe(true)
+    }
+    expect((await as.surgeon!.get(`/api/recalls/${rec.body.id}/fhir`)).status).toBe(403)
+  })
+
   it('the validators are not blind: a wrong Device status is caught', () => {
     expect(errors({ resourceType: 'Device', status: 'implanted' }).length).toBeGreaterThan(0)
   })
