@@ -1,7 +1,7 @@
 // The whole job, in chromium, with four people on their own devices at once: the circulator (tablet) opens the
 // case from Today, enters the readings and confirms the sizes; the scrub (phone) logs every pack from label
-// images (a photo of the nail's DataMatrix, the wedge scanner for the rest), wastes one distal screw and is
-// refused an expired pack; the circulator closes the log; the surgeon (desktop) reviews and signs; the
+// images (a photo of the nail's DataMatrix, the wedge scanner for the head element, two distal screws and the
+// set screw), wastes one distal screw and is refused an expired pack; the circulator closes the log; the surgeon (desktop) reviews and signs; the
 // coordinator (desktop) searches the nail's lot and finds this patient. Every step checks what the person sees.
 // The label images are made by bwip-js (an encoder independent of our parser) and read by the page's own decoder.
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
@@ -63,25 +63,32 @@ describe('the whole job', () => {
     await c.getByTestId('save-reading').click()
     await c.getByRole('heading', { name: 'Distal screw 1 depth' }).waitFor()
     await keyInReading(c, '38')
+    // the second distal locking screw, measured with the depth gauge in its own hole
+    await c.getByTestId('add-distal').click()
+    await c.getByRole('heading', { name: 'Distal screw 2 depth' }).waitFor()
+    await keyInReading(c, '41')
 
     // --- circulator: Sizes, each proposal confirmed (the nail after the aiming guide is checked)
     await open(c, `/cases/${id}/sizes`)
     await c.getByTestId('caution').first().waitFor()
     expect(await c.getByTestId('caution').first().textContent()).toMatch(/surgeon decides/)
     await c.getByTestId('guide-ack').check()
-    for (let n = 0; n < 3; n++) {
+    for (let n = 0; n < 4; n++) {
       const next = c.getByTestId('confirm-proposed').first()
       await next.waitFor()
       await next.click()
       await c.waitForTimeout(300)
     }
     await expect.poll(async () => (await testDb().selectFrom('sizing_decisions').select('component').where('case_id', '=', id).execute()).map((d) => d.component).sort(), { timeout: 10_000 })
-      .toEqual(['distal_screw', 'head_element', 'nail'])
+      .toEqual(['distal_screw', 'distal_screw', 'head_element', 'nail'])
     const sizing = (await api.circulator!.get(`/api/cases/${id}/sizing`)).body
     const gtinOf = (itemId: number) => shelf.rows.find((r) => r.id === itemId)!.gtin
     const nailGtin = gtinOf(sizing.nail.decision.chosenItemId)
     const heGtin = gtinOf(sizing.headElement.decision.chosenItemId)
     const dsGtin = gtinOf(sizing.distal[0].decision.chosenItemId)
+    const ds2Gtin = gtinOf(sizing.distal[1].decision.chosenItemId)
+    expect(ds2Gtin).not.toBe(dsGtin) // 38 mm → 38, 41 mm → 42 (rounded up: the tip passes the far cortex)
+    const setGtin = shelf.rows.find((r) => r.spec.kind === 'set_screw')!.gtin
 
     // --- scrub: the implants step on the phone
     const s = scrub.page
@@ -106,15 +113,21 @@ describe('the whole job', () => {
     await band.filter({ hasText: `WJ${tag}W` }).waitFor()
     await wedgeScan(s, gs1Scan(dsGtin, { expiry: '2030-12-31', lot: `WJ${tag}D` }))
     await band.filter({ hasText: `WJ${tag}D` }).waitFor()
+    await wedgeScan(s, gs1Scan(ds2Gtin, { expiry: '2030-12-31', lot: `WJ${tag}E` }))
+    await band.filter({ hasText: `WJ${tag}E` }).waitFor()
+    expect(await band.getAttribute('data-result')).toBe('accepted')
+    // the set screw locks the head element in the nail
+    await wedgeScan(s, gs1Scan(setGtin, { expiry: '2030-12-31', lot: `WJ${tag}S` }))
+    await band.filter({ hasText: `WJ${tag}S` }).waitFor()
     // an expired pack is refused, in words, and nothing is logged for it
     await wedgeScan(s, gs1Scan(dsGtin, { expiry: '2024-01-31', lot: `WJ${tag}X` }))
     await band.filter({ hasText: /Expired 2024-01-31/ }).waitFor()
     expect(await band.getAttribute('data-result')).toBe('refused')
-    await s.getByTestId('totals').filter({ hasText: /3\s*implanted\s*·\s*1\s*wasted/ }).waitFor()
+    await s.getByTestId('totals').filter({ hasText: /5\s*implanted\s*·\s*1\s*wasted/ }).waitFor()
 
     // the circulator's tablet shows the same log live; a check left open is acknowledged there
     await open(c, `/cases/${id}/implants`)
-    await c.getByTestId('totals').filter({ hasText: /3\s*implanted/ }).waitFor()
+    await c.getByTestId('totals').filter({ hasText: /5\s*implanted/ }).waitFor()
     for (const ack of await c.locator('[data-test^="ack-"]').all()) await ack.click()
     await expect.poll(async () => c.locator('[data-test^="ack-"]').count()).toBe(0)
 
@@ -129,7 +142,7 @@ describe('the whole job', () => {
     const d = surgeon.page
     // what went in, and what was wasted and why, on the Implants step; then the Record step to sign
     await open(d, `/cases/${id}/implants`)
-    await d.getByTestId('totals').filter({ hasText: /3\s*implanted\s*·\s*1\s*wasted/ }).waitFor()
+    await d.getByTestId('totals').filter({ hasText: /5\s*implanted\s*·\s*1\s*wasted/ }).waitFor()
     const log = await d.locator('main').textContent()
     expect(log).toContain(NAIL_LOT)
     expect(log).toContain('Contaminated or dropped')
@@ -151,7 +164,7 @@ describe('the whole job', () => {
     expect(await k.getByTestId('trace-table').textContent()).toContain(patient)
 
     const logged = await testDb().selectFrom('case_items').select(['disposition', 'lot']).where('case_id', '=', id).orderBy('id').execute()
-    expect(logged.map((r) => `${r.disposition}:${r.lot}`)).toEqual([`implanted:${NAIL_LOT}`, `implanted:WJ${tag}H`, `wasted:WJ${tag}W`, `implanted:WJ${tag}D`])
+    expect(logged.map((r) => `${r.disposition}:${r.lot}`)).toEqual([`implanted:${NAIL_LOT}`, `implanted:WJ${tag}H`, `wasted:WJ${tag}W`, `implanted:WJ${tag}D`, `implanted:WJ${tag}E`, `implanted:WJ${tag}S`])
     for (const x of [circ, scrub, surgeon, coord]) await x.context.close()
   }, 180_000)
 })
