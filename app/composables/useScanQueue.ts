@@ -4,7 +4,9 @@
 // exactly once. A reading the server refuses later (the case was closed meanwhile) stays on the device,
 // held with the server's words, until the person has seen it and dismissed it: nothing is dropped unseen.
 import { createStore, del, entries, set } from 'idb-keyval'
+import { storeToRefs } from 'pinia'
 import { csrfHeaders } from '~/utils/csrf'
+import { useDeviceQueueStore } from '~/stores/deviceQueue'
 
 export type QueuedKind = 'scan' | 'reading'
 export interface QueuedCapture {
@@ -38,9 +40,7 @@ async function load(): Promise<QueuedCapture[]> {
   return all.map(([, v]) => v).sort((a, b) => a.queuedAt - b.queuedAt)
 }
 async function count() {
-  const all = await load()
-  useState<QueuedCapture[]>('device-queue').value = all
-  useState<number>('pending-count').value = all.filter((e) => !e.held).length
+  useDeviceQueueStore().mirror(await load())
 }
 
 function messageOf(body: any): string {
@@ -89,8 +89,7 @@ async function flush(): Promise<void> {
 }
 
 export function useScanQueue() {
-  const pending = useState<number>('pending-count', () => 0)
-  const queued = useState<QueuedCapture[]>('device-queue', () => [])
+  const { pending, entries: queued } = storeToRefs(useDeviceQueueStore())
   const mine = (fn: (a: QueueAnswer) => void) => {
     onMounted(() => listeners.add(fn))
     onBeforeUnmount(() => listeners.delete(fn))

@@ -91,3 +91,18 @@ export const DecisionBody = z.object({
   clientKey: ClientKey,
 })
 export type DecisionBody = z.infer<typeof DecisionBody>
+
+/**
+ * The rules of a decision that depend on what the engine proposed, checked the same way by the form
+ * (which shows the proposal) and by the route (which works it out again on the live shelf).
+ */
+export function decisionFor(proposedItemId: number | null) {
+  return DecisionBody.superRefine((b, ctx) => {
+    if (b.chosenItemId !== proposedItemId && !b.reason) {
+      ctx.addIssue({ code: 'custom', path: ['reason'], message: 'Give a reason when the chosen size differs from the proposed size.' })
+    }
+    if (b.component === 'nail' && b.guideAcknowledged !== true) {
+      ctx.addIssue({ code: 'custom', path: ['guideAcknowledged'], message: 'Confirm that the aiming guide is set to the same angle and side as the nail.' })
+    }
+  })
+}

@@ -3,7 +3,7 @@
  * The nail also needs the acknowledgement that the aiming guide is set to the nail's angle and side.
  * Stored with the engine's full result and the rule profile it used. Idempotent by clientKey.
  */
-import { DecisionBody, IdParams } from '../../../../shared/schemas/cases'
+import { DecisionBody, decisionFor, IdParams } from '../../../../shared/schemas/cases'
 import { assertEditable, loadCase, openIfPlanned } from '../../../queries/cases'
 import { caseSizing } from '../../../queries/sizing'
 
@@ -38,12 +38,8 @@ export default defineEventHandler(async (event) => {
       invalid({ chosenItemId: 'Choose a nail for this side and procedure that is on the shelf.' })
     }
     const differs = body.chosenItemId !== proposedId
-    if (differs && !body.reason) {
-      invalid({ reason: 'Give a reason when the chosen size differs from the proposed size.' })
-    }
-    if (body.component === 'nail' && body.guideAcknowledged !== true) {
-      invalid({ guideAcknowledged: 'Confirm that the aiming guide is set to the same angle and side as the nail.' })
-    }
+    const checked = decisionFor(proposedId).safeParse(body)
+    if (!checked.success) invalid(Object.fromEntries(checked.error.issues.map((i) => [String(i.path[0]), i.message])))
     const row = await trx.insertInto('sizing_decisions').values({
       case_id: id, component: body.component, slot: body.component === 'distal_screw' ? body.slot : 0,
       proposed_item_id: proposedId, chosen_item_id: body.chosenItemId,
