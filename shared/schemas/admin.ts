@@ -153,3 +153,12 @@ export const ROLE_HINT: Record<Role, string> = {
   coordinator: 'Trace, recalls, shelf and catalog',
   admin: 'People, settings and audit',
 }
+
+/** An operating room of the facility, as cases are booked into it. */
+export const TheatreBody = z.object({
+  code: z.string('Give the theatre a short code.').trim().toUpperCase()
+    .regex(/^[A-Z0-9][A-Z0-9-]{0,9}$/, 'A code is 1 to 10 letters, digits or dashes, e.g. OR3.'),
+  name: z.string('Name the theatre.').trim().min(2, 'Name the theatre, e.g. “Theatre 3”.').max(60, 'A name has at most 60 characters.'),
+  active: z.boolean().default(true),
+})
+export type TheatreBody = z.infer<typeof TheatreBody>

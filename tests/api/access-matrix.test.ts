@@ -50,9 +50,10 @@ beforeAll(async () => {
     password_hash: (await testDb().selectFrom('users').select('password_hash').where('id', '=', f.users.scrub.id).executeTakeFirstOrThrow()).password_hash,
   }).returning('id').executeTakeFirstOrThrow()
 
+  const theatreId = (await testDb().selectFrom('theatres').select('id').where('facility_id', '=', f.facilityId).executeTakeFirstOrThrow()).id
   Object.assign(ids, {
     'cases/:id': caseId, 'items/:itemId': Number(item.id), 'recalls/:id': recallId, 'patients/:rpId': rp.id, 'stock/:rsId': rs.id,
-    'catalog/items/:id': nail!.id, 'users/:id': target.id, 'locations/:id': f.locationId,
+    'catalog/items/:id': nail!.id, 'users/:id': target.id, 'locations/:id': f.locationId, 'theatres/:id': theatreId,
   })
 })
 afterAll(closeTestDb)

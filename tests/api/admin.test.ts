@@ -3,7 +3,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { Client, clientFrom, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, tag, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { standardShelf } from '../helpers/catalog'
-import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
+import { confirm, createCase, gs1Scan, newCaseBody, reading, scan } from '../helpers/cases'
 
 const baseURL = inject('baseURL')
 let f: TestFacility
@@ -416,6 +416,38 @@ describe('facility settings', () => {
     const after = await scan(scrub, id, wedge.replace(sn, `${sn}B`))
     expect(after.status).toBe(201)
     expect(after.body.item).toMatchObject({ lot: `L${he.id}`, serial: `${sn}B` })
+  })
+})
+
+describe('theatres', () => {
+  it('the admin adds, renames and closes a theatre; a closed one takes no new cases but keeps its past ones', async () => {
+    const g = await makeFacility()
+    const ad = clientFrom(baseURL); await ad.login(g.users.admin.email, TEST_PASSWORD)
+    const ci = clientFrom(baseURL); await ci.login(g.users.circulator.email, TEST_PASSWORD)
+    const made = await ad.post('/api/admin/theatres', { code: 'or3', name: 'Theatre 3' })
+    expect(made.status).toBe(201)
+    expect((await ci.get('/api/facility')).body.theatres.map((t: any) => t.code)).toContain('OR3')
+    const twice = await ad.post('/api/admin/theatres', { code: 'OR3', name: 'Another' })
+    expect(twice.status).toBe(409)
+    expect(twice.body.data.fields.code).toBe('Already used here.')
+    const bad = await ad.post('/api/admin/theatres', { code: 'no spaces', name: '' })
+    expect(bad.status).toBe(400)
+    expect(Object.keys(bad.body.data.fields).sort()).toEqual(['code', 'name'])
+    // a case booked into it, then the theatre closes
+    const caseId = await createCase(ci, g, { theatreId: made.body.id })
+    expect((await ad.patch(`/api/admin/theatres/${made.body.id}`, { code: 'OR3', name: 'Theatre 3 (old wing)', active: false })).status).toBe(200)
+    expect((await ci.get('/api/facility')).body.theatres.map((t: any) => t.code)).not.toContain('OR3')
+    const list = (await ad.get('/api/admin/theatres')).body
+    expect(list.find((t: any) => t.id === made.body.id)).toMatchObject({ name: 'Theatre 3 (old wing)', active: false, cases: 1 })
+    expect((await ci.get(`/api/cases/${caseId}`)).status).toBe(200)
+    const late = await ci.post('/api/cases', newCaseBody(g, { theatreId: made.body.id }))
+    expect(late.status).toBe(400)
+    expect(late.body.data.fields.theatreId).toMatch(/closed to new cases/)
+    // another facility's theatre is not this admin's to change
+    expect((await as.admin!.patch(`/api/admin/theatres/${made.body.id}`, { code: 'X1', name: 'Taken' })).status).toBe(404)
+    const audit = await testDb().selectFrom('audit_log').select('action').where('entity', '=', 'theatre').where('entity_id', '=', String(made.body.id)).orderBy('id').execute()
+    expect(audit.map((a) => a.action)).toEqual(['admin.theatre_add', 'admin.theatre_change'])
+    expect((await ci.post('/api/admin/theatres', { code: 'OR9', name: 'Not mine' })).status).toBe(403)
   })
 })
 

@@ -17,12 +17,13 @@ export default defineEventHandler(async (event) => {
   if (existing) return { id: existing.id, replayed: true }
 
   const [theatre, surgeon] = await Promise.all([
-    db.selectFrom('theatres').select('id').where('id', '=', body.theatreId).where('facility_id', '=', facility.id).executeTakeFirst(),
+    db.selectFrom('theatres').select(['id', 'active']).where('id', '=', body.theatreId).where('facility_id', '=', facility.id).executeTakeFirst(),
     db.selectFrom('users').select('id').where('id', '=', body.surgeonId).where('role', '=', 'surgeon').where('active', '=', true)
       .where((eb) => eb.or([eb('facility_id', '=', facility.id), eb('facility_id', 'is', null)])).executeTakeFirst(),
   ])
   const fields: Record<string, string> = {}
   if (!theatre) fields.theatreId = 'Choose one of this facility’s theatres.'
+  else if (!theatre.active) fields.theatreId = 'This theatre is closed to new cases. Choose another.'
   if (!surgeon) fields.surgeonId = 'Choose an active surgeon of this facility.'
   if (Object.keys(fields).length) {
     throw createError({ statusCode: 400, statusMessage: 'Validation Error', message: Object.values(fields).join(' '), data: { fields } })

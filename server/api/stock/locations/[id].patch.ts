@@ -22,9 +22,7 @@ export default defineEventHandler(async (event) => {
       return { id }
     })
   } catch (e) {
-    if ((e as { code?: string })?.code === '23505') {
-      throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `The code ${b.code} is already used by another location here. Choose another code.`, data: { fields: { code: 'Already used here.' } } })
-    }
+    codeTaken(e, b.code, 'location')
     mapDbError(e, 'location')
   }
 })
