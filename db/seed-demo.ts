@@ -77,7 +77,7 @@ export async function seedDemo(db: Kysely<Database>): Promise<{ facilityId: numb
         .onConflict((oc) => oc.column('gtin').doUpdateSet({ description: item.description }))
         .returning('id').executeTakeFirstOrThrow()
       const lot = `FH${String(2600 + (i % 40)).padStart(4, '0')}${String.fromCharCode(65 + (i % 26))}`
-      const expiry = `${2028 + (i % 3)}-${String(1 + (i % 12)).padStart(2, '0')}-28`
+      const expiry = demoExpiry(i)
       await trx.insertInto('stock_lines').values({ location_id: store.id, item_id: row.id, lot, expiry, on_hand: demoOnHand(item, i) })
         .onConflict((oc) => oc.expression(sql`location_id, item_id, coalesce(lot, '')`).doNothing()).execute()
     }
@@ -120,4 +120,15 @@ if (import.meta.url === `file://${process.argv[1]}`) {
       await db.destroy()
       process.exit(1)
     })
+}
+
+/**
+ * Use-by dates relative to the day the demo is loaded, so the shelf never ages into "expired": most
+ * packs two to four years out, and every 17th within the next 90 days so the Expiring view has something.
+ */
+export function demoExpiry(i: number, from: Date = new Date()): string {
+  const d = new Date(Date.UTC(from.getUTCFullYear(), from.getUTCMonth(), from.getUTCDate()))
+  if (i % 17 === 5) d.setUTCDate(d.getUTCDate() + 20 + (i % 70))
+  else d.setUTCFullYear(d.getUTCFullYear() + 2 + (i % 3), i % 12, 28)
+  return d.toISOString().slice(0, 10)
 }

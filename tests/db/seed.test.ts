@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { sql, type Kysely } from 'kysely'
-import { seedDemo, DEMO_USERS, DEMO_PASSWORD } from '../../db/seed-demo'
+import { demoExpiry, seedDemo, DEMO_USERS, DEMO_PASSWORD } from '../../db/seed-demo'
 import { verifyPassword } from '../../db/password'
 import type { Database } from '../../db/types'
 import { freshDatabase } from '../helpers/db'
@@ -39,5 +39,23 @@ describe('demo scenario', () => {
     const gtins = await db.selectFrom('catalog_items').select('gtin').execute()
     // GS1 prefix 952: "used for demonstrations and examples of the GS1 system" (standards.md A1.8)
     expect(gtins.every((g) => g.gtin!.startsWith('0952'))).toBe(true)
+  })
+
+  it('stocks the shelf with packs in date whenever it is loaded, a few expiring within 90 days', async () => {
+    const rows = await sql<{ expired: number; soon: number; later: number }>`
+      SELECT count(*) FILTER (WHERE expiry < current_date)::int AS expired,
+             count(*) FILTER (WHERE expiry BETWEEN current_date AND current_date + 90)::int AS soon,
+             count(*) FILTER (WHERE expiry > current_date + 365)::int AS later
+      FROM stock_lines`.execute(db)
+    const r = rows.rows[0]!
+    expect(r.expired).toBe(0)
+    expect(r.soon).toBeGreaterThan(5)
+    expect(r.later).toBeGreaterThan(150)
+  })
+
+  it('dates the packs from the day it is loaded, not from a fixed year', () => {
+    expect(demoExpiry(0, new Date('2031-03-10T12:00:00Z'))).toBe('2033-01-28')
+    expect(demoExpiry(5, new Date('2031-03-10T12:00:00Z'))).toBe('2031-04-04') // 20 + 5 days on
+    expect(demoExpiry(1, new Date('2040-12-31T12:00:00Z'))).toBe('2043-02-28')
   })
 })
