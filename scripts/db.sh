@@ -23,9 +23,10 @@ find_bindir() {
 ensure_installed() {
   if ! bindir="$(find_bindir)"; then
     log "PostgreSQL not found; installing Debian's postgresql package"
-    export DEBIAN_FRONTEND=noninteractive
-    apt-get update -qq >/dev/null
-    apt-get install -y -qq postgresql >/dev/null
+    local sudo=""
+    [ "$(id -u)" != 0 ] && sudo="sudo"
+    $sudo env DEBIAN_FRONTEND=noninteractive apt-get update -qq >/dev/null
+    $sudo env DEBIAN_FRONTEND=noninteractive apt-get install -y -qq postgresql >/dev/null
     bindir="$(find_bindir)"
   fi
 }
