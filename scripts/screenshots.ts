@@ -64,6 +64,15 @@ async function main() {
 
     mkdirSync(out, { recursive: true })
     const browser = await launchBrowser()
+    {
+      // the sign-in page as the circulator first sees it on the tablet, before anyone signs in
+      const { context, page } = await newPage(browser, server.url, 'tablet')
+      await open(page, '/login')
+      await page.waitForLoadState('networkidle')
+      await page.screenshot({ path: path.join(out, 'signin-tablet.png') })
+      console.log('docs/screenshots/signin-tablet.png')
+      await context.close()
+    }
     const shots: [string, string, keyof typeof VIEWPORTS, string][] = [
       ['today-tablet', 'circulator', 'tablet', '/'],
       ['readings-tablet', 'circulator', 'tablet', `/cases/${id}`],
