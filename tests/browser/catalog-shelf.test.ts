@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
 import { launchBrowser, open, openSignedIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { addItems, randomGtin, standardShelf } from '../helpers/catalog'
+import { addItems, gtinCheck, randomGtin, standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
 import { clientFrom } from '../helpers/http'
 
@@ -271,6 +271,51 @@ describe('the shelf and the catalog, as the coordinator on the tablet', () => {
     expect(problems).toEqual([])
     await context.close()
   })
+
+  it('imports a 20,000-row item master with its progress shown while reading and sending, and no time-out', async () => {
+    const N = 20_000
+    // GTINs on the demo prefix 952 with their GS1 mod-10 check digit (GS1 General Specifications §7.9)
+    const base = `0952${String(Date.now()).slice(-4)}`
+    const lines = ['kind,description,gtin,diameter,length,unit cost']
+    for (let i = 0; i < N; i++) {
+      const body = base + String(i).padStart(5, '0')
+      lines.push(`distal_screw,Bulk ${f.tag} screw ${i},${body}${gtinCheck(body)},5,${30 + (i % 11) * 2},35`)
+    }
+    const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.coordinator.email, TEST_PASSWORD)
+    await open(page, '/catalog')
+    await page.getByTestId('open-import').click()
+    // watch the progress bars from the page itself, every frame, so a bar that jumps straight to the end is seen as such
+    await page.evaluate(() => {
+      const w = window as unknown as { seen: Record<string, number[]> }
+      w.seen = { read: [], send: [] }
+      const tick = () => {
+        const r = document.querySelector<HTMLProgressElement>('[data-test="read-progress"] progress')
+        const u = document.querySelector<HTMLProgressElement>('[data-test="upload-progress"] progress')
+        if (r) w.seen.read!.push(r.value)
+        if (u) w.seen.send!.push(u.hasAttribute('value') ? u.value : -1) // -1: the bar that waits for the server
+        requestAnimationFrame(tick)
+      }
+      tick()
+    })
+    await page.getByTestId('import-file').setInputFiles({ name: 'master.csv', mimeType: 'text/csv', buffer: Buffer.from(lines.join('\n') + '\n') })
+    await page.getByTestId('mapping').waitFor({ timeout: 30_000 })
+    expect(await page.getByTestId('rows-read').textContent()).toContain('20,000 rows read')
+    await page.getByTestId('import-check').click()
+    await page.getByTestId('report').waitFor({ timeout: 60_000 })
+    expect(await page.getByTestId('report-summary').textContent()).toMatch(/20,000 rows\s*·\s*20,000 valid/)
+    await page.getByTestId('import-run').click()
+    await page.getByTestId('import-done').waitFor({ timeout: 60_000 })
+    expect(await page.getByTestId('import-counts').textContent()).toContain('20,000 created, 0 updated')
+    const seen = await page.evaluate(() => (window as unknown as { seen: Record<string, number[]> }).seen)
+    // the file is read in slices: the bar stood somewhere between empty and full on the way
+    expect(seen.read!.some((v) => v > 0 && v < 100), `read: ${[...new Set(seen.read)].join(',')}`).toBe(true)
+    expect(Math.max(...seen.read!)).toBe(100)
+    // and sending it (twice: the check, then the import) showed a bar too
+    expect(seen.send!.length).toBeGreaterThan(0)
+    const n = await testDb().selectFrom('catalog_items').select(({ fn }) => fn.countAll<number>().as('n')).where('description', 'like', `Bulk ${f.tag} screw %`).executeTakeFirstOrThrow()
+    expect(Number(n.n)).toBe(N)
+    await context.close()
+  }, 120_000)
 
   it('adds an item with the form: a wrong GTIN check digit is named beside the field', async () => {
     const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.coordinator.email, TEST_PASSWORD)
