@@ -1,6 +1,6 @@
 import { execFileSync } from 'node:child_process'
 import { createHash, randomUUID } from 'node:crypto'
-import { mkdtempSync, writeFileSync } from 'node:fs'
+import { mkdtempSync, readdirSync, readFileSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
@@ -9,6 +9,8 @@ import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } f
 import { standardShelf } from '../helpers/catalog'
 import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
 import { startSmtp, toAddresses } from '../helpers/smtp'
+import { decodeSymbolsOnPage } from '../helpers/barcodes'
+import { parseUdi } from '../../shared/utils/udi'
 import { deliverDue } from '../../server/utils/mail'
 import nodemailer from 'nodemailer'
 
@@ -52,6 +54,13 @@ function pdftotext(bytes: Buffer): string {
   const dir = mkdtempSync(path.join(tmpdir(), 'isthmus-pdf-'))
   writeFileSync(path.join(dir, 'r.pdf'), bytes)
   return execFileSync('pdftotext', ['-layout', path.join(dir, 'r.pdf'), '-'], { encoding: 'utf8' })
+}
+/** The pages of a PDF as PNGs, rendered by poppler's pdftoppm. */
+function pdfPages(bytes: Buffer, dpi: number): Buffer[] {
+  const dir = mkdtempSync(path.join(tmpdir(), 'isthmus-png-'))
+  writeFileSync(path.join(dir, 'r.pdf'), bytes)
+  execFileSync('pdftoppm', ['-r', String(dpi), '-png', path.join(dir, 'r.pdf'), path.join(dir, 'p')])
+  return readdirSync(dir).filter((n) => n.endsWith('.png')).sort().map((n) => readFileSync(path.join(dir, n)))
 }
 async function pdf(c: Client, url: string) {
   const r = await fetch(baseURL + url, { headers: { cookie: c.cookieHeader() } })
@@ -119,6 +128,14 @@ describe('signing', () => {
     for (const lot of ['NAIL-LOT-1', 'HE-LOT-2', 'DS-LOT-3', 'DS-LOT-4']) expect(text).toContain(lot)
     expect(text).toContain(s.body.recordHash)
     expect(text).not.toMatch(/DRAFT/)
+    // the chart copy can be scanned again: every implant's DataMatrix on the served pages decodes to its UDI
+    const symbols = pdfPages(a.bytes, 150).flatMap((png) => decodeSymbolsOnPage(png, 'datamatrix'))
+    expect(symbols).not.toContain(null)
+    const read = symbols.map((t) => parseUdi(t!, { today: '2026-12-01' })).filter((p) => p.ok)
+    expect(read).toHaveLength(symbols.length)
+    // one per implant; the wasted screw (DS-LOT-4) is in the waste table, not printed to be scanned
+    expect(read.map((p) => p.ok && p.lot).sort()).toEqual(['DS-LOT-3', 'HE-LOT-2', 'NAIL-LOT-1'])
+    expect(read.some((p) => p.ok && p.serial === serial)).toBe(true)
 
     // the API answers 409 to every change
     expect((await reading(as.circulator!, id, 'nail_length', 360)).status).toBe(409)

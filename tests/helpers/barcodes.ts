@@ -189,3 +189,61 @@ export async function scanLabel(
   const decoded = decodePng(png, kind)
   return scannerString(decoded, kind, { ...opts, gs1: bcid.startsWith('gs1') })
 }
+
+/**
+ * Every 2D symbol on a rendered page, found without knowing the layout: a DataMatrix's solid L-shaped
+ * finder joins its modules into one dark blob that is square, large next to text and half filled.
+ * Each is cut out with a white quiet zone around it and decoded; what cannot be decoded is returned as
+ * null, so a caller counting symbols also sees the ones that did not read.
+ */
+export function decodeSymbolsOnPage(buf: Buffer, kind: SymbolKind = 'datamatrix', opts: { minPx?: number; maxPx?: number } = {}): (string | null)[] {
+  const png = PNG.sync.read(buf)
+  const { width, height } = png
+  const lum = luminance(png)
+  const dark = new Uint8Array(width * height)
+  for (let i = 0; i < dark.length; i++) dark[i] = lum[i]! < 128 ? 1 : 0
+  const seen = new Uint8Array(width * height)
+  const minPx = opts.minPx ?? 30
+  const maxPx = opts.maxPx ?? 400
+  const out: (string | null)[] = []
+  const stack: number[] = []
+  for (let start = 0; start < dark.length; start++) {
+    if (!dark[start] || seen[start]) continue
+    let x0 = width, y0 = height, x1 = 0, y1 = 0, n = 0
+    stack.push(start)
+    seen[start] = 1
+    while (stack.length) {
+      const p = stack.pop()!
+      const x = p % width, y = (p - x) / width
+      n++
+      if (x < x0) x0 = x
+      if (x > x1) x1 = x
+      if (y < y0) y0 = y
+      if (y > y1) y1 = y
+      for (let dy = -1; dy <= 1; dy++) for (let dx = -1; dx <= 1; dx++) {
+        const nx = x + dx, ny = y + dy
+        if (nx < 0 || ny < 0 || nx >= width || ny >= height) continue
+        const q = ny * width + nx
+        if (dark[q] && !seen[q]) { seen[q] = 1; stack.push(q) }
+      }
+    }
+    const w = x1 - x0 + 1, h = y1 - y0 + 1
+    const fill = n / (w * h)
+    if (w < minPx || h < minPx || w > maxPx || h > maxPx || Math.abs(w - h) > 0.2 * Math.max(w, h) || fill < 0.3 || fill > 0.85) continue
+    // cut out with a quiet zone of a fifth of the symbol on every side
+    const m = Math.ceil(Math.max(w, h) / 5)
+    const crop = new PNG({ width: w + 2 * m, height: h + 2 * m })
+    crop.data.fill(255)
+    for (let y = y0; y <= y1; y++) for (let x = x0; x <= x1; x++) {
+      const v = lum[y * width + x]!
+      const o = ((y - y0 + m) * crop.width + (x - x0 + m)) * 4
+      crop.data[o] = crop.data[o + 1] = crop.data[o + 2] = v
+    }
+    try {
+      out.push(decodePng(PNG.sync.write(crop), kind))
+    } catch {
+      out.push(null)
+    }
+  }
+  return out
+}
