@@ -140,6 +140,13 @@ describe('the whole job', () => {
 
     // --- surgeon reviews and signs on the desktop
     const d = surgeon.page
+    // Today tells the surgeon the record waits for them, and leads to it
+    await open(d, '/')
+    const task = d.getByTestId('task-to_sign')
+    await task.waitFor()
+    expect(await task.textContent()).toContain('1 implant record waits for your signature.')
+    await task.getByRole('link').first().click()
+    await d.waitForURL((u) => u.pathname === `/cases/${id}/record`)
     // what went in, and what was wasted and why, on the Implants step; then the Record step to sign
     await open(d, `/cases/${id}/implants`)
     await d.getByTestId('totals').filter({ hasText: /5\s*implanted\s*·\s*1\s*wasted/ }).waitFor()

@@ -29,6 +29,7 @@ export const ROUTE_MATRIX: Record<string, RouteSpec> = {
   'GET /api/auth/me': { allow: ALL },
 
   'GET /api/facility': { allow: ALL },
+  'GET /api/tasks': { allow: ALL },
 
   'GET /api/catalog/items': { allow: ALL },
   'POST /api/catalog/items': { allow: STOCK_KEEPERS },
