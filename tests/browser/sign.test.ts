@@ -17,7 +17,7 @@ beforeAll(async () => { ({ browser, f, shelf } = await openSuite()) })
 afterAll(() => closeSuite(browser))
 
 describe('the surgeon signs on the tablet', () => {
-  it('closes, signs with the password, and downloads the signed PDF', async () => {
+  it('closes, signs with the password, downloads the signed PDF, and signs an addendum as version 2', async () => {
     const circ = clientFrom(baseURL)
     await circ.login(f.users.circulator.email, TEST_PASSWORD)
     const surgeonApi = clientFrom(baseURL)
@@ -59,6 +59,19 @@ describe('the surgeon signs on the tablet', () => {
     expect(bytes.subarray(0, 5).toString()).toBe('%PDF-')
     const stored = await testDb().selectFrom('record_versions').select('pdf_hash').where('case_id', '=', id).executeTakeFirstOrThrow()
     expect(createHash('sha256').update(bytes).digest('hex')).toBe(stored.pdf_hash)
+
+    // a correction: an addendum signed again becomes version 2; version 1 stays as it was
+    await page.getByText('Add an addendum (correction)').click()
+    const form = page.getByTestId('addendum-form')
+    await form.getByLabel('Why a correction is needed').fill('Head element lot misread')
+    await form.getByLabel('The correction, as it should read').fill('Head element lot is HE-LOT-2B')
+    await form.getByLabel('Your password').fill(TEST_PASSWORD)
+    await form.getByRole('button', { name: 'Sign addendum' }).click()
+    await page.getByTestId('version-2').waitFor({ timeout: 15_000 })
+    expect(await page.getByTestId('version-2').textContent()).toContain('Head element lot misread')
+    const [again] = await Promise.all([page.waitForEvent('download'), page.getByTestId('download-1').click()])
+    expect(createHash('sha256').update(readFileSync((await again.path())!)).digest('hex')).toBe(stored.pdf_hash)
+    expect(await testDb().selectFrom('record_versions').select('version').where('case_id', '=', id).orderBy('version').execute()).toEqual([{ version: 1 }, { version: 2 }])
     await context.close()
   })
 })
