@@ -37,7 +37,7 @@ export async function tasksFor(db: Db, user: { id: number; role: Role }, f: { id
     add({
       code: 'left_open', count: rows.length, to: rows[0] ? `/cases/${rows[0].id}/record` : '/',
       text: `${plural(rows.length, 'case', 'cases')} from an earlier day ${rows.length === 1 ? 'is' : 'are'} still open: finish the implant log and close it.`,
-      items: rows.map((r) => ({ id: r.id, label: `${r.day} · ${r.family_name}, ${r.given_name} · MRN ${r.mrn}`, to: `/cases/${r.id}/implants` })),
+      items: rows.map((r) => ({ id: r.id, label: `${r.day} · ${r.family_name}, ${r.given_name} · MRN ${r.mrn}`, to: `/cases/${r.id}/record` })),
     })
   }
 
