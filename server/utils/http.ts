@@ -96,9 +96,19 @@ export function clientIp(event: H3Event): string {
   return getRequestIP(event) ?? 'unknown'
 }
 
-/** Map database errors people can cause (duplicate, broken reference) to 409s; rethrow the rest. */
-export function mapDbError(e: unknown, what = 'record'): never {
+/**
+ * Map database errors people can cause (duplicate, broken reference) to 409s; rethrow the rest.
+ * `code`: the value of a code that must be unique at the facility (a theatre's, a location's), so a
+ * duplicate names the form's `code` field and says what to do.
+ */
+export function mapDbError(e: unknown, what = 'record', opts: { code?: string } = {}): never {
   const code = (e as { code?: string })?.code
+  if (code === '23505' && opts.code !== undefined) {
+    throw createError({
+      statusCode: 409, statusMessage: 'Conflict',
+      message: `The code ${opts.code} is already used by another ${what} here. Choose another code.`, data: { fields: { code: 'Already used here.' } },
+    })
+  }
   if (code === '23505') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} already exists.` })
   if (code === '23503') throw createError({ statusCode: 409, statusMessage: 'Conflict', message: `This ${what} refers to something that does not exist.` })
   if (code === '23514') throw createError({ statusCode: 400, statusMessage: 'Bad Request', message: `This ${what} breaks a rule of the record.` })

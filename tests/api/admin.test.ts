@@ -422,8 +422,7 @@ describe('facility settings', () => {
 describe('theatres', () => {
   it('the admin adds, renames and closes a theatre; a closed one takes no new cases but keeps its past ones', async () => {
     const g = await makeFacility()
-    const ad = clientFrom(baseURL); await ad.login(g.users.admin.email, TEST_PASSWORD)
-    const ci = clientFrom(baseURL); await ci.login(g.users.circulator.email, TEST_PASSWORD)
+    const { admin: ad, circulator: ci } = await signInRoles(baseURL, g, TEST_PASSWORD, ['admin', 'circulator'])
     const made = await ad.post('/api/admin/theatres', { code: 'or3', name: 'Theatre 3' })
     expect(made.status).toBe(201)
     expect((await ci.get('/api/facility')).body.theatres.map((t: any) => t.code)).toContain('OR3')

@@ -1,10 +1,10 @@
 import { randomUUID } from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { clientFrom, type Client, signInRoles } from '../helpers/http'
+import { type Client, signInRoles } from '../helpers/http'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { addItems, gtinCheck, randomGtin, standardShelf } from '../helpers/catalog'
+import { addItems, gtinSeries, randomGtin, standardShelf } from '../helpers/catalog'
 import { hibcCheckChar } from '../../shared/utils/udi'
-import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
+import { confirm, createCase, gs1Scan, headElementCase, inCaseRecord, reading, scan } from '../helpers/cases'
 
 const baseURL = inject('baseURL')
 let f: TestFacility
@@ -16,15 +16,10 @@ beforeAll(async () => {
 })
 afterAll(closeTestDb)
 
-/** GTINs on the demo prefix 952 with their GS1 mod-10 check digit (GS1 General Specifications §7.9). */
-function gtins(n: number): string[] {
-  const base = `0952${String(Date.now()).slice(-5)}`
-  return Array.from({ length: n }, (_, i) => { const body = base + String(i).padStart(4, '0'); return body + gtinCheck(body) })
-}
 
 describe('catalog import', () => {
   it('a good file makes items; re-importing it changes nothing but updates', async () => {
-    const [g1, g2, g3] = gtins(3)
+    const [g1, g2, g3] = gtinSeries(3)
     const csv = `Description,Kind,GTIN,Diameter (mm),Length,Neck-shaft angle,Nail type,Side,Maker,Price\n`
       + `Test nail 10 x 360,nail,${g1},10,360,130,long,left,Fernhollow Medical (demo),1180\n`
       + `Test lag screw 95,lag screw,${g2},10.5,95,,,,Fernhollow Medical (demo),"310,00"\n`
@@ -43,18 +38,14 @@ describe('catalog import', () => {
   })
 
   it('keeps both identifiers of a label, and an item already in a case keeps its kind and size on re-import', async () => {
-    const [g1] = gtins(1)
+    const [g1] = gtinSeries(1)
     const lic = 'B' + String(Date.now()).slice(-3)
     const head = 'Description,Kind,GTIN,HIBCC DI,Diameter,Length,Price\n'
     const r1 = await as.coordinator!.post('/api/catalog/import', { csv: head + `Test lag screw 100,lag screw,${g1},${lic}LAG1001,10.5,100,300\n`, dryRun: false })
     expect(r1.body).toMatchObject({ imported: 1, created: 1 })
     const item = await testDb().selectFrom('catalog_items').select(['id', 'hibcc_di']).where('gtin', '=', g1!).executeTakeFirstOrThrow()
     expect(item.hibcc_di).toBe(`${lic}LAG1001`)
-    const caseId = await createCase(as.circulator!, f)
-    await testDb().insertInto('case_items').values({
-      case_id: caseId, item_id: item.id, di: g1!, issuer: 'GS1', lot: 'IMP-LOT', expiry: '2030-12-31', source: 'wedge', disposition: 'implanted',
-      client_key: randomUUID(), recorded_by: f.users.scrub.id,
-    }).execute()
+    await inCaseRecord(as.circulator!, f, { id: item.id, gtin: g1! }, 'IMP-LOT')
     // the maker's new file says 105 mm and a new price: the price changes, the size of what was implanted does not
     const r2 = await as.coordinator!.post('/api/catalog/import', { csv: head + `Test lag screw 100 (new name),lag screw,${g1},,10.5,105,320\n`, dryRun: false })
     expect(r2.body).toMatchObject({ imported: 1, created: 0, updated: 1 })
@@ -63,7 +54,7 @@ describe('catalog import', () => {
   })
 
   it('a file with bad rows reports each by row number and reason, and imports nothing', async () => {
-    const [g1, g2] = gtins(2)
+    const [g1, g2] = gtinSeries(2)
     const badCheck = g2!.slice(0, 13) + ((Number(g2![13]) + 1) % 10)
     const csv = `description,kind,gtin,diameter_mm,length_mm,angle_deg,nail_type\n`
       + `Good nail,nail,${g1},11,380,130,long\n`
@@ -79,10 +70,8 @@ describe('catalog import', () => {
   })
 
   it('a 20,000-row file validates and imports in one request', async () => {
-    // indicator digit 1 keeps these apart from the unit-level 0952… GTINs other tests draw at random
-    const base = `1952${String(Date.now()).slice(-4)}`
     const lines = ['description,kind,gtin,length_mm,diameter_mm']
-    for (let i = 0; i < 20_000; i++) { const body = base + String(i).padStart(5, '0'); lines.push(`Bulk distal screw ${i},distal_screw,${body + gtinCheck(body)},${26 + (i % 18) * 2},5`) }
+    gtinSeries(20_000, 1).forEach((g, i) => lines.push(`Bulk distal screw ${i},distal_screw,${g},${26 + (i % 18) * 2},5`))
     const r = await as.coordinator!.post('/api/catalog/import', { csv: lines.join('\n'), dryRun: false })
     expect(r.status).toBe(200)
     expect(r.body).toMatchObject({ rows: 20_000, imported: 20_000, errorCount: 0 })
@@ -123,11 +112,7 @@ describe('catalog edit', () => {
 
     // used in a case: the record says 42 mm, so the size stays 42 mm
     await testDb().updateTable('catalog_items').set({ length_mm: 42 }).where('id', '=', id).execute()
-    const caseId = await createCase(as.circulator!, f)
-    await testDb().insertInto('case_items').values({
-      case_id: caseId, item_id: id, di: g, issuer: 'GS1', lot: 'EDIT-LOT', expiry: '2030-12-31', source: 'wedge', disposition: 'implanted',
-      client_key: randomUUID(), recorded_by: f.users.scrub.id,
-    }).execute()
+    await inCaseRecord(as.circulator!, f, { id, gtin: g }, 'EDIT-LOT')
     const sizeChange = await as.coordinator!.put(`/api/catalog/items/${id}`, { ...body, lengthMm: 44, description: 'Test locking screw 42' })
     expect(sizeChange.status).toBe(409)
     expect(sizeChange.body.message).toMatch(/retire it and add the right item/i)
@@ -174,10 +159,7 @@ describe('stock', () => {
   it('an implant scan takes one from the right line; par and the reorder report count what was used; below par e-mails the coordinator', async () => {
     const g = await makeFacility()
     const shelf = await standardShelf(g)
-    const c = clientFrom(baseURL); await c.login(g.users.circulator.email, TEST_PASSWORD)
-    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
-    const sc = clientFrom(baseURL); await sc.login(g.users.scrub.email, TEST_PASSWORD)
-    const su = clientFrom(baseURL); await su.login(g.users.surgeon.email, TEST_PASSWORD)
+    const { circulator: c, coordinator: co, scrub: sc, surgeon: su } = await signInRoles(baseURL, g, TEST_PASSWORD, ['circulator', 'coordinator', 'scrub', 'surgeon'])
     const ds = shelf.rows.find((r) => r.spec.kind === 'distal_screw' && r.spec.len === 40)!
     expect((await co.put('/api/stock/par', { locationId: g.locationId, itemId: ds.id, par: 3 })).status).toBe(200)
     await co.post('/api/stock/replenished', { locationId: g.locationId })
@@ -202,7 +184,7 @@ describe('stock', () => {
   it('expiring-soon: each window holds the lines expiring up to and including its last day, and not the day after', async () => {
     // common practice: "expires within N days" counts today + N as inside (a use-by date is good through that day)
     const g = await makeFacility()
-    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
+    const { coordinator: co } = await signInRoles(baseURL, g, TEST_PASSWORD, ['coordinator'])
     const day = (n: number) => new Date(Date.now() + n * 86_400_000).toISOString().slice(0, 10) // the test facility keeps UTC
     const edges = [30, 31, 60, 61, 90, 91]
     const rows = await addItems(g, edges.map((n) => ({ kind: 'end_cap' as const, lot: `EXP${n}`, expiry: day(n), onHand: 2 })))
@@ -236,7 +218,7 @@ describe('stock', () => {
 
   it('a count or a transfer that drops a location below par e-mails the coordinator too', async () => {
     const g = await makeFacility()
-    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
+    const { coordinator: co } = await signInRoles(baseURL, g, TEST_PASSWORD, ['coordinator'])
     const [a, b] = await addItems(g, [{ kind: 'end_cap', lot: 'PAR-A', onHand: 5 }, { kind: 'end_cap', lot: 'PAR-B', onHand: 5 }])
     const cart = await co.post('/api/stock/locations', { code: 'CART-P', name: 'Par test cart' })
     expect(cart.status).toBe(201)
@@ -258,8 +240,7 @@ describe('stock', () => {
 
   it('stock locations are added and changed from the screens; codes are unique per facility; audited; roles enforced', async () => {
     const g = await makeFacility()
-    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
-    const ad = clientFrom(baseURL); await ad.login(g.users.admin.email, TEST_PASSWORD)
+    const { coordinator: co, admin: ad, circulator: c } = await signInRoles(baseURL, g, TEST_PASSWORD, ['coordinator', 'admin', 'circulator'])
     const theatre = await testDb().selectFrom('theatres').select('id').where('facility_id', '=', g.facilityId).executeTakeFirstOrThrow()
     const made = await co.post('/api/stock/locations', { code: 'or1-cart', name: 'Theatre 1 nail cart', theatreId: theatre.id })
     expect(made.status).toBe(201)
@@ -282,14 +263,13 @@ describe('stock', () => {
     expect((await co.patch(`/api/stock/locations/${f.locationId}`, { code: 'MINE', name: 'Taken over' })).status).toBe(400)
     const audit = await testDb().selectFrom('audit_log').select('action').where('entity', '=', 'stock_location').where('entity_id', '=', String(made.body.id)).orderBy('id').execute()
     expect(audit.map((a) => a.action)).toEqual(['stock.location_add', 'stock.location_change'])
-    const c = clientFrom(baseURL); await c.login(g.users.circulator.email, TEST_PASSWORD)
     expect((await c.post('/api/stock/locations', { code: 'OR2', name: 'Circulator cart' })).status).toBe(403)
   })
 
   it('the shelf grid shows on-hand per diameter × length for each family', async () => {
     const g = await makeFacility()
     await standardShelf(g)
-    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
+    const { coordinator: co } = await signInRoles(baseURL, g, TEST_PASSWORD, ['coordinator'])
     const grid = (await co.get('/api/stock/shelf')).body
     const fam = grid.find((x: any) => x.nailType === 'long' && x.angleDeg === 130 && x.side === 'left')
     expect(fam.diameters).toEqual([10, 11, 12])
@@ -300,15 +280,8 @@ describe('stock', () => {
   it('usage: implants by size, waste by reason and month with its cost, per surgeon — counted from the log', async () => {
     const g = await makeFacility()
     const shelf = await standardShelf(g)
-    const c = clientFrom(baseURL); await c.login(g.users.circulator.email, TEST_PASSWORD)
-    const co = clientFrom(baseURL); await co.login(g.users.coordinator.email, TEST_PASSWORD)
-    const sc = clientFrom(baseURL); await sc.login(g.users.scrub.email, TEST_PASSWORD)
-    const su = clientFrom(baseURL); await su.login(g.users.surgeon.email, TEST_PASSWORD)
-    const id = await createCase(c, g)
-    await reading(c, id, 'head_element_length', 92)
-    const s = (await c.get(`/api/cases/${id}/sizing`)).body
-    await confirm(su, id, 'head_element', s.headElement.ideal.id)
-    const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
+    const { circulator: c, coordinator: co, scrub: sc, surgeon: su } = await signInRoles(baseURL, g, TEST_PASSWORD, ['circulator', 'coordinator', 'scrub', 'surgeon'])
+    const { id, he } = await headElementCase({ circulator: c, surgeon: su }, g, shelf)
     const ds = shelf.rows.find((r) => r.spec.kind === 'distal_screw' && r.spec.len === 40)!
     expect((await scan(sc, id, gs1Scan(he.gtin, { expiry: '2030-12-31', lot: `L${he.id}` }))).status).toBe(201)
     for (const reason of ['wrong_size', 'wrong_size', 'contaminated']) {

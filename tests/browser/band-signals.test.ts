@@ -6,8 +6,8 @@ import { open, openSignedIn } from '../helpers/browser'
 import { TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { closeSuite, openSuite, type Shelf } from '../helpers/suite'
 import { addItems } from '../helpers/catalog'
-import { confirm, createCase, gs1Scan, reading } from '../helpers/cases'
-import { clientFrom } from '../helpers/http'
+import { gs1Scan, headElementCase } from '../helpers/cases'
+import { signInRoles } from '../helpers/http'
 
 const baseURL = inject('baseURL')
 let browser: Browser
@@ -29,15 +29,7 @@ async function bandOf(page: Page, result: string) {
 
 describe('the scan band', () => {
   it('says accepted, check and refused with different words and icons, not only colours', async () => {
-    const api = clientFrom(baseURL)
-    await api.login(f.users.circulator.email, TEST_PASSWORD)
-    const id = await createCase(api, f)
-    await reading(api, id, 'head_element_length', 92)
-    const s = (await api.get(`/api/cases/${id}/sizing`)).body
-    const surgeon = clientFrom(baseURL)
-    await surgeon.login(f.users.surgeon.email, TEST_PASSWORD)
-    await confirm(surgeon, id, 'head_element', s.headElement.ideal.id)
-    const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
+    const { id, he } = await headElementCase(await signInRoles(baseURL, f, TEST_PASSWORD, ['circulator', 'surgeon']), f, shelf)
     const { context, page } = await openSignedIn(browser, baseURL, 'phone', f.users.scrub.email, TEST_PASSWORD)
     await open(page, `/cases/${id}/implants`)
     const wedge = page.getByTestId('wedge')

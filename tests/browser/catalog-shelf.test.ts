@@ -2,9 +2,9 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import type { Browser, Page } from 'playwright-core'
 import { launchBrowser, open, openSignedIn } from '../helpers/browser'
 import { closeTestDb, makeFacility, testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
-import { addItems, gtinCheck, randomGtin, standardShelf } from '../helpers/catalog'
-import { confirm, createCase, gs1Scan, reading, scan } from '../helpers/cases'
-import { clientFrom } from '../helpers/http'
+import { addItems, gtinSeries, randomGtin, standardShelf } from '../helpers/catalog'
+import { confirm, createCase, gs1Scan, inCaseRecord, reading, scan } from '../helpers/cases'
+import { clientFrom, signInRoles } from '../helpers/http'
 
 const baseURL = inject('baseURL')
 let browser: Browser
@@ -274,13 +274,8 @@ describe('the shelf and the catalog, as the coordinator on the tablet', () => {
 
   it('imports a 20,000-row item master with its progress shown while reading and sending, and no time-out', async () => {
     const N = 20_000
-    // GTINs on the demo prefix 952 with their GS1 mod-10 check digit (GS1 General Specifications §7.9)
-    const base = `0952${String(Date.now()).slice(-4)}`
     const lines = ['kind,description,gtin,diameter,length,unit cost']
-    for (let i = 0; i < N; i++) {
-      const body = base + String(i).padStart(5, '0')
-      lines.push(`distal_screw,Bulk ${f.tag} screw ${i},${body}${gtinCheck(body)},5,${30 + (i % 11) * 2},35`)
-    }
+    gtinSeries(N, 2).forEach((g, i) => lines.push(`distal_screw,Bulk ${f.tag} screw ${i},${g},5,${30 + (i % 11) * 2},35`))
     const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.coordinator.email, TEST_PASSWORD)
     await open(page, '/catalog')
     await page.getByTestId('open-import').click()
@@ -342,11 +337,8 @@ describe('the shelf and the catalog, as the coordinator on the tablet', () => {
 
   it('edits an item: an unused one whole, a used one only in its words, with the reason shown', async () => {
     const [free, used] = await addItems(f, [{ kind: 'distal_screw', d: 5, len: 46, lot: 'ED-FREE' }, { kind: 'distal_screw', d: 5, len: 48, lot: 'ED-USED' }])
-    const caseId = await createCase((await (async () => { const c = clientFrom(baseURL); await c.login(f.users.circulator.email, TEST_PASSWORD); return c })()), f)
-    await testDb().insertInto('case_items').values({
-      case_id: caseId, item_id: used!.id, di: used!.gtin, issuer: 'GS1', lot: 'ED-USED', expiry: '2030-12-31', source: 'wedge', disposition: 'implanted',
-      client_key: crypto.randomUUID(), recorded_by: f.users.scrub.id,
-    }).execute()
+    const { circulator } = await signInRoles(baseURL, f, TEST_PASSWORD, ['circulator'])
+    await inCaseRecord(circulator, f, used!, 'ED-USED')
     const { context, page } = await openSignedIn(browser, baseURL, 'tablet', f.users.coordinator.email, TEST_PASSWORD)
     await open(page, '/catalog')
     await page.getByTestId('catalog-search').fill(free!.gtin)

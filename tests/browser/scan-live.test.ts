@@ -3,8 +3,8 @@ import type { Browser } from 'playwright-core'
 import { newPage, open, signIn } from '../helpers/browser'
 import { testDb, TEST_PASSWORD, type TestFacility } from '../helpers/db'
 import { closeSuite, openSuite, type Shelf } from '../helpers/suite'
-import { confirm, createCase, gs1Scan, reading } from '../helpers/cases'
-import { clientFrom } from '../helpers/http'
+import { gs1Scan, headElementCase } from '../helpers/cases'
+import { signInRoles } from '../helpers/http'
 import { makeSymbolPng } from '../helpers/barcodes'
 
 const baseURL = inject('baseURL')
@@ -17,15 +17,7 @@ afterAll(() => closeSuite(browser))
 
 describe('scanning on the phone, seen on the tablet', () => {
   it('a scan typed into the scrub’s scanner field appears on the circulator’s page within a second', async () => {
-    const api = clientFrom(baseURL)
-    await api.login(f.users.circulator.email, TEST_PASSWORD)
-    const id = await createCase(api, f)
-    await reading(api, id, 'head_element_length', 92)
-    const s = (await api.get(`/api/cases/${id}/sizing`)).body
-    const surgeon = clientFrom(baseURL)
-    await surgeon.login(f.users.surgeon.email, TEST_PASSWORD)
-    await confirm(surgeon, id, 'head_element', s.headElement.ideal.id)
-    const he = shelf.rows.find((r) => r.id === s.headElement.ideal.id)!
+    const { id, he } = await headElementCase(await signInRoles(baseURL, f, TEST_PASSWORD, ['circulator', 'surgeon']), f, shelf)
 
     const circ = await newPage(browser, baseURL, 'tablet')
     await signIn(circ.page, f.users.circulator.email, TEST_PASSWORD)

@@ -1,6 +1,7 @@
 import { randomUUID } from 'node:crypto'
 import type { Client } from './http'
-import { tag, type TestFacility } from './db'
+import { tag, testDb, type TestFacility } from './db'
+import type { ShelfRow } from './catalog'
 
 export function newCaseBody(f: TestFacility, over: Record<string, unknown> = {}) {
   return {
@@ -15,6 +16,19 @@ export async function createCase(c: Client, f: TestFacility, over: Record<string
   const r = await c.post('/api/cases', newCaseBody(f, over))
   if (r.status !== 201) throw new Error(`case not created: ${r.status} ${JSON.stringify(r.body)}`)
   return r.body.id
+}
+
+/**
+ * An item already in a case record: a case booked by `c` with one implanted pack of the item, written
+ * straight to the log (for what may no longer change about an item once it is in a record).
+ */
+export async function inCaseRecord(c: Client, f: TestFacility, item: { id: number; gtin: string }, lot: string): Promise<number> {
+  const caseId = await createCase(c, f)
+  await testDb().insertInto('case_items').values({
+    case_id: caseId, item_id: item.id, di: item.gtin, issuer: 'GS1', lot, expiry: '2030-12-31', source: 'wedge', disposition: 'implanted',
+    client_key: randomUUID(), recorded_by: f.users.scrub.id,
+  }).execute()
+  return caseId
 }
 
 export async function reading(c: Client, caseId: number, kind: string, value: number, slot = 0) {
@@ -41,4 +55,16 @@ export async function confirm(c: Client, caseId: number, component: 'nail' | 'he
   const r = await c.post(`/api/cases/${caseId}/decisions`, { component, slot, chosenItemId, guideAcknowledged: component === 'nail' ? true : undefined, reason, clientKey: randomUUID() })
   if (r.status !== 201) throw new Error(`decision failed: ${r.status} ${JSON.stringify(r.body)}`)
   return r.body.id as number
+}
+
+/**
+ * A case with its head element confirmed: the circulator books it and calls in a 92 mm reading, the
+ * surgeon confirms the proposal (the 90 mm head element of the standard shelf). Returns the shelf row.
+ */
+export async function headElementCase(team: { circulator: Client; surgeon: Client }, f: TestFacility, shelf: { rows: ShelfRow[] }) {
+  const id = await createCase(team.circulator, f)
+  await reading(team.circulator, id, 'head_element_length', 92)
+  const s = (await team.circulator.get(`/api/cases/${id}/sizing`)).body
+  await confirm(team.surgeon, id, 'head_element', s.headElement.ideal.id)
+  return { id, he: shelf.rows.find((r) => r.id === s.headElement.ideal.id)! }
 }

@@ -9,6 +9,17 @@ export function gtinCheck(body13: string): string {
   return String(gtinCheckDigit(body13))
 }
 
+/**
+ * n GTIN-14s in a row on the demo prefix 952, with their GS1 mod-10 check digit (GS1 General
+ * Specifications §7.9). The indicator digit (the packaging level, §3.3.2) keeps bulk series apart from the
+ * unit-level 0952… GTINs other tests draw at random; the clock's last digits keep runs apart.
+ */
+export function gtinSeries(n: number, indicator: 0 | 1 | 2 = 0): string[] {
+  const width = Math.max(4, String(n - 1).length)
+  const base = `${indicator}952${String(Date.now()).slice(-(9 - width))}`
+  return Array.from({ length: n }, (_, i) => { const body = base + String(i).padStart(width, '0'); return body + gtinCheck(body) })
+}
+
 export function randomGtin(): string {
   let body = '0952'
   for (let i = 0; i < 9; i++) body += Math.floor(Math.random() * 10)

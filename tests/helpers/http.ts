@@ -84,9 +84,9 @@ type Role = 'circulator' | 'scrub' | 'surgeon' | 'coordinator' | 'admin'
 const EVERY_ROLE: readonly Role[] = ['circulator', 'scrub', 'surgeon', 'coordinator', 'admin']
 
 /** One signed-in client per role of a test facility, each from its own address. */
-export async function signInRoles(baseURL: string, f: { users: Record<Role, { email: string }> }, password: string,
-  roles: readonly Role[] = EVERY_ROLE): Promise<Record<string, Client>> {
-  const out: Record<string, Client> = {}
+export async function signInRoles<R extends Role = Role>(baseURL: string, f: { users: Record<Role, { email: string }> }, password: string,
+  roles: readonly R[] = EVERY_ROLE as readonly R[]): Promise<Record<R, Client>> {
+  const out = {} as Record<R, Client>
   for (const role of roles) {
     out[role] = clientFrom(baseURL)
     await out[role].login(f.users[role].email, password)

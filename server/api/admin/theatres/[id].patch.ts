@@ -24,7 +24,6 @@ export default defineEventHandler(async (event) => {
       return { id }
     })
   } catch (e) {
-    codeTaken(e, b.code, 'theatre')
-    mapDbError(e, 'theatre')
+    mapDbError(e, 'theatre', { code: b.code })
   }
 })

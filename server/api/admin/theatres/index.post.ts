@@ -15,7 +15,6 @@ export default defineEventHandler(async (event) => {
       return { id: row.id }
     })
   } catch (e) {
-    codeTaken(e, b.code, 'theatre')
-    mapDbError(e, 'theatre')
+    mapDbError(e, 'theatre', { code: b.code })
   }
 })

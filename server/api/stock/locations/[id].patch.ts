@@ -22,7 +22,6 @@ export default defineEventHandler(async (event) => {
       return { id }
     })
   } catch (e) {
-    codeTaken(e, b.code, 'location')
-    mapDbError(e, 'location')
+    mapDbError(e, 'location', { code: b.code })
   }
 })

@@ -18,7 +18,6 @@ export default defineEventHandler(async (event) => {
       return { id: row.id }
     })
   } catch (e) {
-    codeTaken(e, b.code, 'location')
-    mapDbError(e, 'location')
+    mapDbError(e, 'location', { code: b.code })
   }
 })
